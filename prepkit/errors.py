@@ -1,0 +1,97 @@
+"""Error types.
+
+One base class, :class:`PrepkitError`; each specific error also subclasses a
+builtin so callers can catch it either way. Errors carry their fields as
+attributes so code and tests can inspect them instead of parsing messages.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+
+class PrepkitError(Exception):
+    """Base class of every error prepkit raises on purpose."""
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One mistake found in a workbook.
+
+    Parameters
+    ----------
+    sheet : str
+        Sheet name as the planner sees it (``""`` when the problem is the
+        whole file).
+    cell : str
+        Cell reference such as ``"D7"`` (``""`` when the problem is a whole
+        sheet or file).
+    field : str
+        Plain-words name of the input, e.g. ``"ICU share of admissions,
+        band 65-74"``.
+    expected : str
+        What the cell should hold.
+    found : str
+        What it holds.
+    severity : str
+        ``"error"`` (the plan cannot be used) or ``"warning"`` (the plan is
+        used, but the planner should look).
+    """
+
+    sheet: str
+    cell: str
+    field: str
+    expected: str
+    found: str
+    severity: str = "error"
+
+    @property
+    def where(self) -> str:
+        """Sheet and cell in spreadsheet notation, e.g. ``Severity!D7``."""
+        if self.sheet and self.cell:
+            return f"{_quote_sheet(self.sheet)}!{self.cell}"
+        return _quote_sheet(self.sheet) if self.sheet else "workbook"
+
+    def __str__(self) -> str:
+        return f"{self.where} ({self.field}): expected {self.expected}, found {self.found}"
+
+
+def _quote_sheet(name: str) -> str:
+    if name.replace("_", "").isalnum():
+        return name
+    return "'" + name.replace("'", "''") + "'"
+
+
+class WorkbookError(ValueError, PrepkitError):
+    """A workbook cannot be turned into a plan.
+
+    Carries every problem found (``problems``), not just the first, so the
+    planner can fix them all in one pass. ``warnings`` holds the non-fatal
+    notes found on the way.
+    """
+
+    def __init__(self, problems: Iterable[Problem], warnings: Iterable[Problem] = ()) -> None:
+        self.problems: tuple[Problem, ...] = tuple(problems)
+        self.warnings: tuple[Problem, ...] = tuple(warnings)
+        first = str(self.problems[0]) if self.problems else "no detail"
+        more = len(self.problems) - 1
+        super().__init__(first + (f" (and {more} more problem(s))" if more > 0 else ""))
+
+    @property
+    def sheet(self) -> str:
+        """Sheet of the first problem."""
+        return self.problems[0].sheet if self.problems else ""
+
+    @property
+    def cell(self) -> str:
+        """Cell of the first problem."""
+        return self.problems[0].cell if self.problems else ""
+
+
+class ModelError(ValueError, PrepkitError):
+    """The plan is valid as a workbook but cannot be simulated as asked."""
+
+
+class OutputError(OSError, PrepkitError):
+    """An output could not be written."""

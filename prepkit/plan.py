@@ -1,0 +1,522 @@
+"""The typed planning inputs: frozen, keyword-only dataclasses.
+
+The plan never knows where it came from: :mod:`prepkit.workbook.reader`
+translates a workbook into a :class:`Plan`. Inside the plan every share is a
+fraction in [0, 1], every time is in days, every count is in persons, and
+every date is a :class:`datetime.date`. Per-band values are tuples in the
+order of :attr:`Plan.bands`.
+
+Variants of a plan are made with :func:`dataclasses.replace`.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+from typing import Literal
+
+Level = Literal["low", "central", "high"]
+LEVELS: tuple[Level, ...] = ("low", "central", "high")
+
+Setting = Literal["home", "school", "work", "community"]
+SETTINGS: tuple[Setting, ...] = ("home", "school", "work", "community")
+
+PageSize = Literal["A4", "Letter"]
+InterventionKind = Literal["contacts", "vaccination", "isolation"]
+StartKind = Literal["date", "ward_occupancy", "icu_occupancy", "admissions"]
+EndKind = Literal["horizon", "date", "duration", "release"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class Range3:
+    """A quantity given as Low / Central / High, in the unit of its field.
+
+    When the workbook leaves Low or High blank they equal Central.
+    """
+
+    low: float
+    central: float
+    high: float
+
+    @classmethod
+    def point(cls, value: float) -> Range3:
+        """A quantity with no stated uncertainty."""
+        return cls(low=value, central=value, high=value)
+
+    def at(self, level: Level) -> float:
+        """Value at a named level."""
+        return {"low": self.low, "central": self.central, "high": self.high}[level]
+
+    @property
+    def is_point(self) -> bool:
+        """True when Low = Central = High."""
+        return self.low == self.central == self.high
+
+
+@dataclass(frozen=True, kw_only=True)
+class Details:
+    """Plan details: who, where, when, how long, how many draws.
+
+    Attributes
+    ----------
+    jurisdiction : str
+        Name of the municipality or county.
+    title : str
+        Report title.
+    prepared_by : str
+        Person or team preparing the plan.
+    day0 : datetime.date
+        Calendar date of model day 0.
+    horizon_days : int
+        Days simulated after day 0 [days], 1 to 730.
+    draws : int
+        Uncertainty draws per scenario [count]; 0 turns the ensemble off.
+    seed : int
+        Random seed for the uncertainty draws.
+    page_size : {"A4", "Letter"}
+        Paper size of the briefing pack.
+    """
+
+    jurisdiction: str
+    title: str
+    prepared_by: str
+    day0: dt.date
+    horizon_days: int
+    draws: int
+    seed: int
+    page_size: PageSize
+
+
+@dataclass(frozen=True, kw_only=True)
+class AgeBand:
+    """One age band.
+
+    Attributes
+    ----------
+    label : str
+        Band label as the planner wrote it, e.g. ``"65-74"``.
+    lower_age : int
+        Lowest age in the band [years], inclusive.
+    upper_age : int or None
+        Highest age in the band [years], inclusive; None for an open top band.
+    people : float
+        Residents in the band [persons].
+    high_risk_share : float or None
+        Share at high clinical risk [fraction], if known.
+    """
+
+    label: str
+    lower_age: int
+    upper_age: int | None
+    people: float
+    high_risk_share: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Contacts:
+    """Who meets whom.
+
+    Either ``matrices`` is given (one band x band matrix per setting, entry
+    [i][j] = mean daily contacts a person in band i has with people in band
+    j) or the simple form is used: ``mean_daily`` per band with
+    ``assortativity`` (preferential mixing) and per-band setting shares.
+
+    Attributes
+    ----------
+    matrices : dict of setting -> tuple of tuples of float, or None
+        Mean daily contacts by setting [contacts/person/day].
+    mean_daily : tuple of float or None
+        Mean daily contacts per band, all settings [contacts/person/day].
+    assortativity : float
+        Share of contacts kept within one's own band [fraction] (simple form).
+    setting_shares : tuple of dict of setting -> float, or None
+        Per band, share of contacts made at home, school and work [fraction];
+        the rest are community contacts (simple form).
+    """
+
+    matrices: dict[Setting, tuple[tuple[float, ...], ...]] | None = None
+    mean_daily: tuple[float, ...] | None = None
+    assortativity: float = 0.5
+    setting_shares: tuple[dict[Setting, float], ...] | None = None
+
+    @property
+    def uses_matrices(self) -> bool:
+        """True when per-setting matrices were given."""
+        return self.matrices is not None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Disease:
+    """Natural history and transmissibility.
+
+    Exactly one of ``r0``, ``doubling_time_days`` and ``growth_rate_per_day``
+    is set.
+
+    Attributes
+    ----------
+    r0 : Range3 or None
+        Basic reproduction number [dimensionless].
+    doubling_time_days : Range3 or None
+        Early-epidemic doubling time [days].
+    growth_rate_per_day : Range3 or None
+        Early-epidemic exponential growth rate [1/day].
+    latent_period_days : Range3
+        Mean time from infection to becoming infectious [days].
+    latent_stages : int
+        Erlang stage count of the latent period.
+    infectious_period_days : Range3
+        Mean infectious period [days].
+    infectious_stages : int
+        Erlang stage count of the infectious period.
+    symptomatic_share : tuple of Range3
+        Per band, share of infections that become symptomatic [fraction].
+    asymptomatic_relative_infectiousness : float
+        Infectiousness of an asymptomatic case relative to a symptomatic one
+        [fraction].
+    relative_susceptibility : tuple of float
+        Per band, susceptibility relative to the reference [dimensionless].
+    prior_immunity : tuple of float
+        Per band, share immune at day 0 [fraction].
+    seasonal_amplitude : float
+        Relative amplitude of seasonal forcing [fraction]; 0 for none.
+    seasonal_peak : datetime.date or None
+        Date of highest transmissibility; the year is ignored.
+    initial_infections : float
+        People newly infected at day 0 [persons].
+    daily_importations : float
+        Infections caught outside the jurisdiction each day [persons/day].
+    """
+
+    r0: Range3 | None
+    doubling_time_days: Range3 | None
+    growth_rate_per_day: Range3 | None
+    latent_period_days: Range3
+    latent_stages: int
+    infectious_period_days: Range3
+    infectious_stages: int
+    symptomatic_share: tuple[Range3, ...]
+    asymptomatic_relative_infectiousness: float
+    relative_susceptibility: tuple[float, ...]
+    prior_immunity: tuple[float, ...]
+    seasonal_amplitude: float = 0.0
+    seasonal_peak: dt.date | None = None
+    initial_infections: float = 10.0
+    daily_importations: float = 0.0
+
+    @property
+    def transmissibility_measure(self) -> Literal["r0", "doubling_time", "growth_rate"]:
+        """Which of the three transmissibility measures the plan gives."""
+        if self.r0 is not None:
+            return "r0"
+        if self.doubling_time_days is not None:
+            return "doubling_time"
+        return "growth_rate"
+
+
+@dataclass(frozen=True, kw_only=True)
+class Severity:
+    """Hospital pathway by band.
+
+    Attributes
+    ----------
+    admitted_share : tuple of Range3
+        Share of infections admitted to hospital [fraction].
+    icu_share : tuple of Range3
+        Share of admissions that go to ICU [fraction].
+    ward_fatality : tuple of float
+        Share of ward stays ending in death [fraction].
+    icu_fatality : tuple of float
+        Share of ICU stays ending in death [fraction].
+    onset_to_admission_days : tuple of float
+        Mean delay from symptom onset to admission [days].
+    ward_stay_days : tuple of Range3
+        Mean ward length of stay [days].
+    icu_stay_days : tuple of Range3
+        Mean ICU length of stay [days].
+    admission_delay_stages, ward_stages, icu_stages : int
+        Erlang stage counts of the delay and the stays.
+    """
+
+    admitted_share: tuple[Range3, ...]
+    icu_share: tuple[Range3, ...]
+    ward_fatality: tuple[float, ...]
+    icu_fatality: tuple[float, ...]
+    onset_to_admission_days: tuple[float, ...]
+    ward_stay_days: tuple[Range3, ...]
+    icu_stay_days: tuple[Range3, ...]
+    admission_delay_stages: int = 1
+    ward_stages: int = 2
+    icu_stages: int = 2
+
+
+@dataclass(frozen=True, kw_only=True)
+class Capacity:
+    """Hospital beds serving the jurisdiction.
+
+    Attributes
+    ----------
+    ward_beds, icu_beds : int
+        Staffed beds [beds].
+    ventilators : int or None
+        Ventilators [devices], if known.
+    ward_baseline_occupancy, icu_baseline_occupancy : float
+        Share of beds used by other patients [fraction].
+    surge_ward_beds, surge_icu_beds : int
+        Extra beds that can be opened [beds].
+    surge_days_to_open : float
+        Days from the surge trigger until surge beds are usable [days].
+    surge_trigger_occupancy : float
+        Occupancy share of available beds that triggers opening surge beds
+        [fraction].
+    catchment_share : float
+        Share of the jurisdiction's patients these hospitals receive
+        [fraction].
+    """
+
+    ward_beds: int
+    icu_beds: int
+    ventilators: int | None
+    ward_baseline_occupancy: float
+    icu_baseline_occupancy: float
+    surge_ward_beds: int
+    surge_icu_beds: int
+    surge_days_to_open: float
+    surge_trigger_occupancy: float
+    catchment_share: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Workforce:
+    """Inputs for workforce absence.
+
+    Attributes
+    ----------
+    working_age_min, working_age_max : int
+        Working ages [years], inclusive.
+    employed_share : float
+        Share of working-age people in work [fraction].
+    days_absent_per_illness : float
+        Days off work per symptomatic illness [days].
+    carer_share_school_closure : float
+        Share of workers who stay home to care for children while schools
+        are closed [fraction].
+    """
+
+    working_age_min: int
+    working_age_max: int
+    employed_share: float
+    days_absent_per_illness: float
+    carer_share_school_closure: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Start:
+    """When an intervention starts.
+
+    ``kind="date"`` uses ``date``; the trigger kinds use ``level``: a share
+    of available beds [fraction] for occupancy, admissions per day
+    [persons/day] for ``"admissions"``.
+    """
+
+    kind: StartKind
+    date: dt.date | None = None
+    level: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class End:
+    """When an intervention ends.
+
+    ``"horizon"`` runs to the end; ``"date"`` uses ``date``; ``"duration"``
+    uses ``duration_days`` counted from the start; ``"release"`` (trigger
+    starts only) ends when the trigger quantity falls below ``level``.
+    """
+
+    kind: EndKind
+    date: dt.date | None = None
+    duration_days: float | None = None
+    level: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Vaccination:
+    """A vaccination campaign.
+
+    Attributes
+    ----------
+    doses_per_day : float
+        Doses given each day [doses/day] (one dose protects).
+    priority : tuple of int
+        Band indices in the order they are offered the vaccine.
+    uptake_ceiling : float
+        Largest share of a band that will be vaccinated [fraction].
+    efficacy_infection : Range3
+        Reduction in the risk of infection (leaky) [fraction].
+    efficacy_severe : Range3
+        Reduction in the risk of hospital admission, infection included
+        [fraction]; at least ``efficacy_infection``.
+    days_to_protection : float
+        Mean delay from dose to protection [days].
+    """
+
+    doses_per_day: float
+    priority: tuple[int, ...]
+    uptake_ceiling: float
+    efficacy_infection: Range3
+    efficacy_severe: Range3
+    days_to_protection: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Isolation:
+    """Case isolation.
+
+    Attributes
+    ----------
+    isolated_share : float
+        Share of symptomatic cases isolated [fraction].
+    days_from_onset : float
+        Days from symptom onset to isolation [days].
+    """
+
+    isolated_share: float
+    days_from_onset: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Intervention:
+    """One measure.
+
+    Attributes
+    ----------
+    name : str
+        Unique name.
+    kind : {"contacts", "vaccination", "isolation"}
+        What the measure does.
+    start, end : Start, End
+        When it applies.
+    contacts_kept : dict of setting -> float
+        For ``kind="contacts"``: share of contacts kept in each setting
+        [fraction]; settings not listed keep all contacts.
+    vaccination : Vaccination or None
+        For ``kind="vaccination"``.
+    isolation : Isolation or None
+        For ``kind="isolation"``.
+    compliance : Range3
+        Share of the full effect achieved [fraction].
+    """
+
+    name: str
+    kind: InterventionKind
+    start: Start
+    end: End
+    contacts_kept: dict[Setting, float] = field(default_factory=dict)
+    vaccination: Vaccination | None = None
+    isolation: Isolation | None = None
+    compliance: Range3 = field(default_factory=lambda: Range3.point(1.0))
+
+
+@dataclass(frozen=True, kw_only=True)
+class Scenario:
+    """A named combination of levels and interventions.
+
+    Each scenario also runs without its interventions for comparison.
+    """
+
+    name: str
+    transmissibility_level: Level
+    severity_level: Level
+    interventions: tuple[str, ...]
+    description: str = ""
+
+
+@dataclass(frozen=True, kw_only=True)
+class Observation:
+    """One day of observed hospital data (any field may be missing)."""
+
+    date: dt.date
+    admissions: float | None = None
+    ward_census: float | None = None
+    icu_census: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class InputRecord:
+    """One input as read, for the assumptions appendix and the echo sheet.
+
+    Attributes
+    ----------
+    sheet, cell : str
+        Where it was read.
+    name : str
+        Canonical field name.
+    label : str
+        Plain-words label, with the band where it applies.
+    value : str
+        Value as shown to a reader, percentages at the edge.
+    unit : str
+        Unit as shown to a reader.
+    defaulted : bool
+        True when the cell was blank and the default was used.
+    """
+
+    sheet: str
+    cell: str
+    name: str
+    label: str
+    value: str
+    unit: str
+    defaulted: bool = False
+
+
+@dataclass(frozen=True, kw_only=True)
+class Source:
+    """Where the plan was read from."""
+
+    path: str = ""
+    sha256: str = ""
+    inputs: tuple[InputRecord, ...] = ()
+
+
+@dataclass(frozen=True, kw_only=True)
+class Plan:
+    """Everything prepkit needs to run the scenarios of one jurisdiction."""
+
+    details: Details
+    bands: tuple[AgeBand, ...]
+    contacts: Contacts
+    disease: Disease
+    severity: Severity
+    capacity: Capacity
+    workforce: Workforce
+    interventions: tuple[Intervention, ...]
+    scenarios: tuple[Scenario, ...]
+    observed: tuple[Observation, ...] = ()
+    source: Source = field(default_factory=Source)
+
+    @property
+    def population(self) -> float:
+        """Total residents [persons]."""
+        return float(sum(b.people for b in self.bands))
+
+    def intervention(self, name: str) -> Intervention:
+        """Intervention by name (exact match)."""
+        for item in self.interventions:
+            if item.name == name:
+                return item
+        raise KeyError(name)
+
+    def scenario(self, name: str) -> Scenario:
+        """Scenario by name (exact match)."""
+        for item in self.scenarios:
+            if item.name == name:
+                return item
+        raise KeyError(name)
+
+    def day_of(self, date: dt.date) -> int:
+        """Model day number of a calendar date [days since day 0]."""
+        return (date - self.details.day0).days
+
+    def date_of(self, day: float) -> dt.date:
+        """Calendar date of a model day (whole days, rounded down)."""
+        return self.details.day0 + dt.timedelta(days=int(day // 1))
