@@ -1,0 +1,392 @@
+"""Guards between untrusted text and the two places it can do harm.
+
+Two outputs receive text that a planner typed into a workbook: the PDF
+briefing pack (through HTML and weasyprint) and the results workbook
+(through openpyxl). Each has one way to turn text into an action:
+
+* weasyprint fetches every URL a document names (images, stylesheets, fonts,
+  ``<link rel="attachment">`` files), so a label such as
+  ``<img src="file:///home/planner/secret.txt">`` that slipped through would
+  read a local file into the PDF, and an ``http`` URL would reach the
+  network. :class:`AssetFetcher` is the only URL fetcher prepkit gives
+  weasyprint: it serves files inside the installed ``prepkit.templates``
+  package and ``data:`` images of the two types prepkit draws (PNG and SVG),
+  and refuses everything else.
+* spreadsheet programs run a cell whose text starts with ``=`` (and, on
+  entry, ``+``, ``-``, ``@``) as a formula. :func:`write_text_cell` stores
+  text so it is always shown as text.
+
+Autoescaping in :mod:`prepkit.report.render` is the first guard (typed text
+never becomes markup); the fetcher is the second, for anything that gets
+through anyway.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass
+from importlib.resources import files
+from pathlib import Path
+from typing import TYPE_CHECKING
+from urllib.parse import unquote_to_bytes, urlsplit
+from urllib.request import url2pathname
+
+from openpyxl.cell.cell import MergedCell
+from weasyprint.urls import URLFetcher, URLFetcherResponse
+
+from prepkit.errors import PrepkitError
+
+if TYPE_CHECKING:
+    from openpyxl.cell.cell import Cell
+    from openpyxl.worksheet.worksheet import Worksheet
+
+__all__ = [
+    "ALLOWED_ASSET_SUFFIXES",
+    "ALLOWED_DATA_MEDIA_TYPES",
+    "FORMULA_TRIGGERS",
+    "AssetFetcher",
+    "FetchRefusedError",
+    "Refusal",
+    "looks_like_formula",
+    "package_assets_dir",
+    "safe_cell_text",
+    "safe_csv_text",
+    "write_text_cell",
+    "write_text_row",
+]
+
+TEMPLATES_PACKAGE = "prepkit.templates"
+
+#: Media types a ``data:`` URI may carry: the two image formats prepkit's own
+#: charts are written in. Anything else (HTML, CSS, fonts, other images) is
+#: refused even when inline.
+ALLOWED_DATA_MEDIA_TYPES = frozenset({"image/png", "image/svg+xml"})
+
+#: File types served from the templates package, with the media type
+#: weasyprint is told (it checks ``text/css`` for stylesheets).
+ALLOWED_ASSET_SUFFIXES: dict[str, str] = {
+    ".css": "text/css",
+    ".ttf": "font/ttf",
+    ".png": "image/png",
+    ".svg": "image/svg+xml",
+}
+
+#: First characters that make a spreadsheet program read a cell as a formula
+#: (``=``, ``+``, ``-``, ``@``) or that hide such a character from a check
+#: that looks only at the first character (tab, carriage return).
+FORMULA_TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
+
+# Characters XML 1.0 cannot hold; openpyxl raises on them.
+_XML_ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
+
+
+class FetchRefusedError(PermissionError, PrepkitError):
+    """A URL was refused by :class:`AssetFetcher`.
+
+    weasyprint catches the error, logs a warning and leaves the resource
+    out (an image shows its alt text; a stylesheet or font is skipped), so a
+    refused URL never stops a render.
+
+    Parameters
+    ----------
+    url : str
+        The URL as weasyprint asked for it.
+    reason : str
+        Why it was refused, in plain words.
+    """
+
+    def __init__(self, url: str, reason: str) -> None:
+        self.url = url
+        self.reason = reason
+        super().__init__(f"refused to fetch {_shorten(url)!r}: {reason}")
+
+
+@dataclass(frozen=True)
+class Refusal:
+    """One URL that :class:`AssetFetcher` refused.
+
+    Parameters
+    ----------
+    url : str
+        The URL as requested (``data:`` URIs are cut to 80 characters).
+    reason : str
+        Why it was refused.
+    """
+
+    url: str
+    reason: str
+
+
+def package_assets_dir() -> Path:
+    """Folder of the installed ``prepkit.templates`` package.
+
+    Returns
+    -------
+    pathlib.Path
+        Absolute, symlink-free path of the package folder.
+
+    Raises
+    ------
+    FileNotFoundError
+        When the package is not installed as plain files (for example from a
+        zip archive), since weasyprint and the fetcher need real paths.
+    """
+    root = files(TEMPLATES_PACKAGE)
+    if not isinstance(root, Path) or not root.is_dir():
+        raise FileNotFoundError(
+            f"{TEMPLATES_PACKAGE} must be installed as a folder of files; found {root!r}"
+        )
+    return root.resolve(strict=True)
+
+
+class AssetFetcher(URLFetcher):
+    """weasyprint URL fetcher that serves only prepkit's own assets.
+
+    Served:
+
+    * ``file:`` URLs naming a regular file inside ``root`` (after resolving
+      ``..`` and symbolic links) whose suffix is in
+      :data:`ALLOWED_ASSET_SUFFIXES`;
+    * ``data:`` URIs whose media type is in :data:`ALLOWED_DATA_MEDIA_TYPES`.
+
+    Everything else (``http``, ``https``, ``ftp``, ``file:`` outside
+    ``root`` or with a host, other ``data:`` types, unknown schemes) raises
+    :class:`FetchRefusedError`, which weasyprint logs and skips. The fetcher
+    never opens a network connection: it does not call the parent class's
+    :mod:`urllib` machinery at all.
+
+    Every request is recorded: :attr:`served` lists the URLs served,
+    :attr:`refused` the ones refused with their reasons, so tests and callers
+    can check what a render tried to read.
+
+    Parameters
+    ----------
+    root : pathlib.Path, optional
+        Folder whose files may be served. Defaults to the installed
+        ``prepkit.templates`` package (:func:`package_assets_dir`).
+    """
+
+    def __init__(self, root: Path | None = None) -> None:
+        super().__init__(allowed_protocols=("file", "data"), fail_on_errors=False)
+        self.root = (root if root is not None else package_assets_dir()).resolve(strict=True)
+        self.served: list[str] = []
+        self.refused: list[Refusal] = []
+
+    def fetch(self, url: str, headers: object = None) -> URLFetcherResponse:
+        """Serve ``url`` if it is one of prepkit's assets, else refuse it.
+
+        Parameters
+        ----------
+        url : str
+            Absolute URL resolved by weasyprint.
+        headers : object, optional
+            HTTP headers weasyprint would send; unused, since nothing is
+            fetched over a network.
+
+        Returns
+        -------
+        weasyprint.urls.URLFetcherResponse
+            The asset's bytes and media type.
+
+        Raises
+        ------
+        FetchRefusedError
+            For any URL that is not one of prepkit's assets.
+        """
+        try:
+            response = self._serve(url)
+        except FetchRefusedError as error:
+            self.refused.append(Refusal(_shorten(url), error.reason))
+            raise
+        self.served.append(_shorten(url))
+        return response
+
+    def _serve(self, url: str) -> URLFetcherResponse:
+        scheme = url.split(":", 1)[0].lower() if ":" in url else ""
+        if scheme == "data":
+            media_type, body = _decode_data_uri(url)
+            return URLFetcherResponse(url, body, {"Content-Type": media_type})
+        if scheme == "file":
+            path = self._package_file(url)
+            media_type = ALLOWED_ASSET_SUFFIXES[path.suffix.lower()]
+            body = path.read_bytes()
+            return URLFetcherResponse(path.as_uri(), body, {"Content-Type": media_type})
+        raise FetchRefusedError(url, f"scheme {scheme or '(none)'!r} is never fetched")
+
+    def _package_file(self, url: str) -> Path:
+        parts = urlsplit(url)
+        if parts.netloc not in ("", "localhost"):
+            raise FetchRefusedError(url, f"file URL names host {parts.netloc!r}")
+        raw = url2pathname(parts.path)
+        try:
+            path = Path(raw).resolve(strict=True)
+        except (OSError, RuntimeError):
+            raise FetchRefusedError(url, "no such file") from None
+        if not path.is_relative_to(self.root):
+            raise FetchRefusedError(url, "file lies outside the prepkit.templates package")
+        if not path.is_file():
+            raise FetchRefusedError(url, "not a regular file")
+        if path.suffix.lower() not in ALLOWED_ASSET_SUFFIXES:
+            raise FetchRefusedError(url, f"file type {path.suffix or '(none)'!r} is not an asset")
+        return path
+
+
+def _decode_data_uri(url: str) -> tuple[str, bytes]:
+    """Media type and bytes of an allowed ``data:`` URI (RFC 2397)."""
+    header, sep, payload = url[len("data:") :].partition(",")
+    if not sep:
+        raise FetchRefusedError(url, "malformed data URI (no comma)")
+    params = [item.strip() for item in header.split(";")]
+    media_type = params[0].lower() or "text/plain"
+    if media_type not in ALLOWED_DATA_MEDIA_TYPES:
+        raise FetchRefusedError(
+            url,
+            f"data URI of type {media_type!r}; only {sorted(ALLOWED_DATA_MEDIA_TYPES)} are allowed",
+        )
+    raw = unquote_to_bytes(payload)
+    if any(item.lower() == "base64" for item in params[1:]):
+        try:
+            return media_type, base64.b64decode(raw, validate=False)
+        except (binascii.Error, ValueError):
+            raise FetchRefusedError(url, "data URI is not valid base64") from None
+    return media_type, raw
+
+
+def _shorten(url: str, limit: int = 80) -> str:
+    """``data:`` URIs cut to ``limit`` characters (they can be megabytes)."""
+    if not url.startswith("data:") or len(url) <= limit:
+        return url
+    return url[: limit - 3] + "..."
+
+
+# --------------------------------------------------------------------------
+# Spreadsheet cells
+# --------------------------------------------------------------------------
+
+
+def looks_like_formula(text: str) -> bool:
+    """True when a spreadsheet program could read ``text`` as a formula.
+
+    Parameters
+    ----------
+    text : str
+        Cell text.
+
+    Returns
+    -------
+    bool
+        Whether ``text`` starts with one of :data:`FORMULA_TRIGGERS`.
+    """
+    return text.startswith(FORMULA_TRIGGERS)
+
+
+def safe_cell_text(value: str) -> str:
+    r"""Text made storable in an ``.xlsx`` cell, unchanged to the reader.
+
+    XML 1.0 cannot hold most control characters, and openpyxl refuses them;
+    they are dropped (tab and line feed stay). Carriage returns become line
+    feeds, since an XML reader turns a raw carriage return into a line feed
+    anyway and the cell would otherwise read back differently. The text is
+    otherwise unchanged, in particular a leading ``=`` is kept: it is
+    :func:`write_text_cell` that makes the cell a text cell.
+
+    Parameters
+    ----------
+    value : str
+        Text from the plan or the model.
+
+    Returns
+    -------
+    str
+        The text without XML-illegal characters, with ``\n`` line breaks.
+    """
+    text = str(value).replace("\r\n", "\n").replace("\r", "\n")
+    return _XML_ILLEGAL.sub("", text)
+
+
+def safe_csv_text(value: str) -> str:
+    """Text for a CSV field that a spreadsheet program will not run.
+
+    A CSV file has no cell types, so the only defence is to change the text:
+    a field that :func:`looks_like_formula` gets a leading apostrophe, which
+    spreadsheet programs show as text (the apostrophe is visible in plain
+    text editors).
+
+    Parameters
+    ----------
+    value : str
+        Field text.
+
+    Returns
+    -------
+    str
+        ``value`` with XML-illegal characters dropped, prefixed with ``'``
+        when it could be read as a formula.
+    """
+    text = safe_cell_text(value)
+    return "'" + text if looks_like_formula(text) else text
+
+
+def write_text_cell(ws: Worksheet, row: int, col: int, text: str) -> Cell:
+    """Write ``text`` to a worksheet cell as text, never as a formula.
+
+    openpyxl treats any string starting with ``=`` as a formula. Here the
+    value is assigned and the cell type then forced to string (``"s"``), so
+    the saved sheet holds a string and no ``<f>`` element. A cell whose text
+    :func:`looks_like_formula` also gets Excel's *quote prefix* style, so it
+    stays text even after someone edits it in Excel.
+
+    Parameters
+    ----------
+    ws : openpyxl.worksheet.worksheet.Worksheet
+        Sheet to write to.
+    row : int
+        Row number, from 1.
+    col : int
+        Column number, from 1.
+    text : str
+        Text to store; cleaned by :func:`safe_cell_text`.
+
+    Returns
+    -------
+    openpyxl.cell.cell.Cell
+        The cell written.
+
+    Raises
+    ------
+    ValueError
+        When the cell is covered by a merged range (only its top-left cell
+        can hold a value).
+    """
+    clean = safe_cell_text(text)
+    cell = ws.cell(row=row, column=col)
+    if isinstance(cell, MergedCell):
+        raise ValueError(
+            f"{ws.title}!{cell.coordinate}: expected a writable cell, found part of a merged range"
+        )
+    cell.value = clean
+    cell.data_type = "s"
+    if looks_like_formula(clean):
+        cell.quotePrefix = True
+    return cell
+
+
+def write_text_row(ws: Worksheet, row: int, texts: Iterable[str], start_col: int = 1) -> None:
+    """Write several text cells along one row with :func:`write_text_cell`.
+
+    Parameters
+    ----------
+    ws : openpyxl.worksheet.worksheet.Worksheet
+        Sheet to write to.
+    row : int
+        Row number, from 1.
+    texts : iterable of str
+        Texts, left to right.
+    start_col : int, optional
+        Column of the first text, from 1.
+    """
+    for offset, text in enumerate(texts):
+        write_text_cell(ws, row, start_col + offset, text)

@@ -1,0 +1,1 @@
+"""Jinja2 templates, the pack stylesheet and bundled fonts (data only)."""
