@@ -234,6 +234,9 @@ class Field:
 
 
 def _num(x: float) -> str:
+    # Whole numbers in full with thousands separators ("1,000,000", not "1e+06").
+    if float(x).is_integer() and abs(x) < 1e15:
+        return f"{int(x):,}"
     return f"{x:g}"
 
 
@@ -341,7 +344,8 @@ FIELDS: tuple[Field, ...] = (
                "population. Give this, the doubling time, or the growth rate, not more."),
     Field(name="disease.doubling_time_days", sheet=DISEASE, label="Doubling time",
           unit="days", type="number", minimum=0.5, maximum=365, uncertain=True,
-          help="Days for early case numbers to double. Low is the fast (short) end."),
+          help="Days for early case numbers to double. Columns run from the shortest (Low) to the "
+               "longest (High) time; note that a SHORT doubling time means FAST spread."),
     Field(name="disease.growth_rate_per_day", sheet=DISEASE, label="Growth rate",
           unit="per day", type="number", minimum=0.001, maximum=2, uncertain=True,
           help="Early exponential growth rate of infections per day (0.1 = about 10% a day)."),
@@ -549,10 +553,12 @@ FIELDS: tuple[Field, ...] = (
           unit="", type="text", required=True, help="A short unique name.", width=24),
     Field(name="scenario.transmissibility_level", sheet=SCENARIOS, table="scenarios",
           label="Transmissibility", unit="", type="choice", choices=LEVEL_CHOICES,
-          default="Central", help="Which column of the transmissibility measure to use."),
+          default="Central",
+          help="High = faster spread: the High R0 or growth rate, or the Low (shortest) "
+               "doubling time. Low = slower spread."),
     Field(name="scenario.severity_level", sheet=SCENARIOS, table="scenarios",
           label="Severity", unit="", type="choice", choices=LEVEL_CHOICES, default="Central",
-          help="Which columns of the admission and ICU shares to use."),
+          help="Which column of the admission and ICU shares to use (High = more severe)."),
     Field(name="scenario.interventions", sheet=SCENARIOS, table="scenarios",
           label="Measures applied", unit="", type="list", default=(),
           help="Names from the Measures sheet separated by ';'. Blank = no measures.",
@@ -582,6 +588,90 @@ TRANSMISSIBILITY_FIELDS: tuple[str, ...] = (
     "disease.doubling_time_days",
     "disease.growth_rate_per_day",
 )
+
+
+#: Most age bands a plan may have.
+MAX_BANDS = 20
+
+#: Longest text accepted in one cell [characters].
+MAX_TEXT_LENGTH = 1000
+
+#: One field per contact-matrix sheet. Not part of :data:`FIELDS`: matrix cells
+#: are found by their row and column band labels, not by an item label or a
+#: column header.
+MATRIX_FIELDS: dict[str, Field] = {
+    setting: Field(
+        name=f"matrix.{setting}", sheet=sheet, label=sheet, unit="per day", type="number",
+        minimum=0, maximum=500, width=9,
+        help="Mean number of people in the column band that one person in the row band "
+             "meets each day in this setting.",
+    )
+    for setting, sheet in MATRIX_SHEETS.items()
+}
+
+#: Guidance of the "Source or note" cells (free text; prepkit does not read it).
+NOTE_HELP = (
+    "Where the figure comes from (a report, a data set, a person) or why it was chosen. "
+    "Not used in the calculation."
+)
+
+#: Title row of every contact-matrix sheet.
+MATRIX_TITLE = (
+    "Rows: the band of the person making the contacts. Columns: the band of the people "
+    "they meet. Each cell: mean contacts per person per day."
+)
+#: How to label a contact-matrix sheet.
+MATRIX_NOTE = (
+    f"Copy the band labels from the {POPULATION} sheet into the row that starts with "
+    f"'{BAND_HEADER}' and into the column below it, in any order. Leave all four contact "
+    f"sheets blank to use the simple contacts on the {MIXING} sheet; fill one and all four "
+    "must be complete."
+)
+
+#: Text of the instructions sheet (the sheet list is built from SHEET_PURPOSE).
+INSTRUCTIONS_TITLE = "prepkit planning workbook"
+INSTRUCTIONS_PURPOSE = (
+    "This workbook holds the inputs of one outbreak plan: the population, how people "
+    "meet, how the disease spreads and how severe it is, the hospital beds, the measures "
+    "being considered and the scenarios to compare. prepkit reads it and turns it into "
+    "planning scenarios and a printed briefing pack."
+)
+INSTRUCTIONS_HOW_HEADING = "How to fill it in"
+INSTRUCTIONS_HOW: tuple[str, ...] = (
+    "Type only in the shaded cells with a dotted border; every other cell is locked. "
+    "The sheets are protected without a password: use Review > Unprotect Sheet if you "
+    "need to change the layout.",
+    "Each input has its unit beside it and guidance next to it; selecting a cell also "
+    "shows its guidance. Leave a cell blank to use the default named in the guidance.",
+    "Shares may be typed as 25% or as 0.25. A bare number above 1 is not a share.",
+    "Dates may be Excel dates or text like 2027-01-15.",
+    "Where Low, Central and High columns appear, Central is the best estimate; a blank "
+    "Low or High means the same as Central.",
+    "You may insert rows, move item rows, put the rows of a table in any order, reorder "
+    "table columns and add your own sheets. Keep the labels and column headers as they "
+    "are: prepkit finds every input by them.",
+    "Use the Source or note column to say where each figure comes from.",
+    "Run 'prepkit check' on the file to list every problem at once, with its sheet and "
+    "cell.",
+)
+INSTRUCTIONS_SHEETS_HEADING = "The sheets"
+INSTRUCTIONS_CAUTION = (
+    "Caution: the results are a planning aid, not a forecast. They show what could happen "
+    "under the stated assumptions. Decisions rest with the local health authority."
+)
+
+
+def choice_shown(f: Field, canonical: str) -> str:
+    """Choice entry shown in the workbook for a canonical value."""
+    for shown, value in (f.choices or {}).items():
+        if value == canonical:
+            return shown
+    raise KeyError(f"{f.name}: no choice for {canonical!r}")
+
+
+def key_noun(table: str) -> str:
+    """Word naming a row of a table in messages, e.g. ``"band"`` or ``"measure"``."""
+    return FIELDS_BY_NAME[TABLES[table].key].label.lower()
 
 
 def sheet_fields(sheet: str) -> tuple[Field, ...]:
