@@ -326,7 +326,7 @@ def vellmora_plan() -> Plan:
         Intervention(
             name="Distancing advice",
             kind="contacts",
-            start=Start(kind="date", date=DAY0 + dt.timedelta(days=40)),
+            start=Start(kind="date", date=DAY0 + dt.timedelta(days=28)),
             end=End(kind="date", date=dt.date(2027, 5, 31)),
             contacts_kept={"work": 0.75, "community": 0.60},
             compliance=rng3(0.50, 0.70, 0.85),
@@ -334,10 +334,10 @@ def vellmora_plan() -> Plan:
         Intervention(
             name="Vaccine programme",
             kind="vaccination",
-            start=Start(kind="date", date=DAY0 + dt.timedelta(days=60)),
+            start=Start(kind="date", date=DAY0 + dt.timedelta(days=21)),
             end=End(kind="horizon"),
             vaccination=Vaccination(
-                doses_per_day=1500.0,
+                doses_per_day=2000.0,
                 priority=priority,
                 uptake_ceiling=0.80,
                 efficacy_infection=rng3(0.35, 0.50, 0.65),
@@ -373,7 +373,7 @@ def vellmora_plan() -> Plan:
             interventions=("Schools closed", "Distancing advice", "Vaccine programme"),
             description=(
                 "Central figures throughout, with school closure on a ward-occupancy trigger, "
-                "distancing advice from mid-February and the vaccine from March."
+                "distancing advice from February and the vaccine from late January."
             ),
         ),
         Scenario(
@@ -479,7 +479,7 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "measure.compliance@Schools closed": SCHOOLS,
         "measure.compliance@Distancing advice": INVENTED,
         "measure.efficacy_infection@Vaccine programme": (
-            "Invented: a first-season vaccine, 1,500 doses a day from early March, oldest "
+            "Invented: a first-season vaccine, 2,000 doses a day from late January, oldest "
             "first."
         ),
         "measure.compliance@Isolation of cases": ISOLATION,

@@ -308,15 +308,15 @@ def test_vellmora_measures(vellmora: Plan) -> None:
     dist = vellmora.intervention("Distancing advice")
     assert dist.contacts_kept == {"work": 0.75, "community": 0.60}
     assert dist.start.kind == "date" and dist.start.date is not None
-    assert 35 <= vellmora.day_of(dist.start.date) <= 45
+    assert 20 <= vellmora.day_of(dist.start.date) <= 45
     assert dist.end.kind == "date"
     assert dist.compliance == Range3(low=0.50, central=0.70, high=0.85)
 
     vac = vellmora.intervention("Vaccine programme")
     v = vac.vaccination
     assert vac.kind == "vaccination" and v is not None and vac.start.date is not None
-    assert 55 <= vellmora.day_of(vac.start.date) <= 65
-    assert v.doses_per_day == 1500.0 and v.uptake_ceiling == 0.80
+    assert 14 <= vellmora.day_of(vac.start.date) <= 65
+    assert v.doses_per_day == 2000.0 and v.uptake_ceiling == 0.80
     assert [vellmora.bands[i].label for i in v.priority] == [
         "75+", "70-74", "65-69", "60-64", "55-59", "50-54", "45-49", "40-44", "35-39",
         "30-34", "25-29", "20-24",
