@@ -178,6 +178,8 @@ def _file_bytes(path: str | os.PathLike[str]) -> tuple[str, bytes]:
             )
         with p.open("rb") as handle:
             data = handle.read(MAX_FILE_BYTES + 1)
+    except WorkbookError:
+        raise
     except OSError as exc:
         reason = exc.strerror or type(exc).__name__
         raise _file_problem("a file that can be read", f"it cannot be read: {reason}") from None
