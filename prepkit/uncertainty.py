@@ -73,7 +73,7 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 from numpy.typing import NDArray
-from scipy.stats import beta as beta_distribution
+from scipy.special import betaincinv
 from scipy.stats import qmc
 
 from prepkit.engine import PlanResults, ScenarioRun, compile_scenario
@@ -267,7 +267,10 @@ def pert_ppf(
     spread = b > a
     if np.any(spread):
         alpha, beta = pert_parameters(a[spread], c[spread], b[spread], lam)
-        x = beta_distribution.ppf(q[:, None], alpha[None, :], beta[None, :])
+        # Bands often share one shape (ranges scaled alike): invert each distinct
+        # shape once, then rescale to each band's range.
+        shapes, which = np.unique(np.stack([alpha, beta], axis=1), axis=0, return_inverse=True)
+        x = betaincinv(shapes[None, :, 0], shapes[None, :, 1], q[:, None])[:, which.ravel()]
         out[:, spread] = a[spread] + x * (b[spread] - a[spread])
     if np.ndim(low) == 0 and np.ndim(mode) == 0 and np.ndim(high) == 0:
         return np.asarray(out[:, 0], dtype=np.float64)
