@@ -90,7 +90,7 @@ def _copy_source(dest: Path) -> Path:
     for name in ("pyproject.toml", "README.md", "LICENSE", "LICENSE.txt", "setup.py", "setup.cfg"):
         if (REPO / name).is_file():
             shutil.copy2(REPO / name, src / name)
-    for folder in ("prepkit", "templates"):
+    for folder in ("prepkit", "templates", "sample_workbooks"):
         shutil.copytree(REPO / folder, src / folder, ignore=ignore)
     return src
 

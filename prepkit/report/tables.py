@@ -1,0 +1,249 @@
+"""The daily series as CSV, with a data dictionary.
+
+``daily-series.csv`` is in long form: one row per scenario, variant and
+day, so it filters and pivots easily in a spreadsheet or a script. Column
+names carry their unit (``_per_day``, ``_persons``, ``_beds``, ``_share``);
+:data:`DAILY_COLUMNS` says what each one means, and
+``daily-series-columns.csv`` writes that out beside the data.
+
+A CSV file has no cell types, so text that a spreadsheet program could run
+as a formula (a scenario named ``=HYPERLINK(...)``) is neutralised with
+:func:`prepkit.report.safety.safe_csv_text`. Numbers are written with eight
+significant digits, dates as ISO 8601, flags as 0 or 1, and missing or
+infinite values as empty fields. The files are UTF-8 with a byte order mark,
+so spreadsheet programs read accented names correctly.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from typing import Any, Literal
+
+import numpy as np
+import pandas as pd
+
+from prepkit.engine import PlanResults
+from prepkit.report.safety import safe_csv_text
+
+__all__ = [
+    "DAILY_COLUMNS",
+    "KEY_COLUMNS",
+    "Column",
+    "columns_csv",
+    "csv_number",
+    "daily_csv",
+    "daily_rows",
+    "uncertainty_daily_csv",
+]
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of the daily series.
+
+    Parameters
+    ----------
+    name : str
+        Column name, as in :attr:`prepkit.engine.ScenarioRun.daily`.
+    unit : str
+        Unit in words.
+    meaning : str
+        What the column holds.
+    """
+
+    name: str
+    unit: str
+    meaning: str
+
+
+#: Columns identifying a row.
+KEY_COLUMNS: tuple[Column, ...] = (
+    Column("scenario", "text", "Scenario name as in the workbook."),
+    Column("variant", "text", "'with measures' or 'without measures'."),
+    Column("date", "date (YYYY-MM-DD)", "Calendar day."),
+    Column("day", "days", "Days since day 0 of the plan."),
+)
+
+#: The daily columns written, in order.
+DAILY_COLUMNS: tuple[Column, ...] = (
+    Column("infections_per_day", "persons per day", "New infections during the day."),
+    Column("symptomatic_onsets_per_day", "persons per day", "People whose symptoms start."),
+    Column("admissions_per_day", "persons per day", "Residents admitted to hospital."),
+    Column("icu_admissions_per_day", "persons per day", "Admissions that go to ICU."),
+    Column("deaths_per_day", "persons per day", "Deaths in hospital."),
+    Column("doses_per_day", "doses per day", "Vaccine doses given."),
+    Column("ward_census_persons", "persons", "Residents in ward beds at the end of the day."),
+    Column("icu_census_persons", "persons", "Residents in ICU beds at the end of the day."),
+    Column("ward_demand_beds", "beds",
+           "Ward beds needed by outbreak patients: census x share admitted to these hospitals."),
+    Column("ward_available_beds", "beds",
+           "Staffed ward beds not needed by other patients (no surge beds)."),
+    Column("ward_available_with_surge_beds", "beds",
+           "Available ward beds plus surge beds once open."),
+    Column("ward_unmet_beds", "beds", "Ward demand above the available beds (0 if none)."),
+    Column("ward_unmet_with_surge_beds", "beds",
+           "Ward demand above the available beds with surge beds (0 if none)."),
+    Column("ward_occupancy_share", "fraction", "Ward demand / available ward beds."),
+    Column("icu_demand_beds", "beds", "ICU beds needed by outbreak patients."),
+    Column("icu_available_beds", "beds", "Staffed ICU beds not needed by other patients."),
+    Column("icu_available_with_surge_beds", "beds",
+           "Available ICU beds plus surge beds once open."),
+    Column("icu_unmet_beds", "beds", "ICU demand above the available beds (0 if none)."),
+    Column("icu_unmet_with_surge_beds", "beds",
+           "ICU demand above the available beds with surge beds (0 if none)."),
+    Column("icu_occupancy_share", "fraction", "ICU demand / available ICU beds."),
+    Column("cumulative_infections_persons", "persons", "Infections so far, day-0 seeds included."),
+    Column("cumulative_symptomatic_persons", "persons", "Symptomatic illnesses so far."),
+    Column("cumulative_admissions_persons", "persons", "Admissions so far."),
+    Column("cumulative_icu_admissions_persons", "persons", "ICU admissions so far."),
+    Column("cumulative_deaths_persons", "persons", "Deaths so far."),
+    Column("cumulative_doses", "doses", "Vaccine doses given so far."),
+    Column("susceptible_persons", "persons", "People who can still be infected."),
+    Column("protected_persons", "persons", "People protected by vaccine."),
+    Column("recovered_persons", "persons", "People recovered and immune."),
+    Column("absent_workers_persons", "persons", "Workers off work: ill, or caring for children."),
+    Column("absence_share", "fraction", "Absent workers / all workers."),
+    Column("school_closure_intensity_share", "fraction",
+           "How fully schools are closed (0 open, 1 fully closed)."),
+)
+
+VARIANT_WORDS = {"with": "with measures", "without": "without measures"}
+
+
+def csv_number(value: object) -> str:
+    """A number as written to the CSV.
+
+    Parameters
+    ----------
+    value : object
+        A number or a boolean.
+
+    Returns
+    -------
+    str
+        Eight significant digits (``302.03752``); ``1``/``0`` for flags;
+        ``""`` for NaN or infinity.
+    """
+    if isinstance(value, bool | np.bool_):
+        return "1" if value else "0"
+    number = float(value)  # type: ignore[arg-type]
+    if not math.isfinite(number):
+        return ""
+    if number == 0.0:
+        return "0"
+    return format(number, ".8g")
+
+
+def daily_rows(results: PlanResults) -> Iterable[list[str]]:
+    """Rows of ``daily-series.csv`` after the header, as text.
+
+    Parameters
+    ----------
+    results : PlanResults
+        Results of every scenario.
+
+    Yields
+    ------
+    list of str
+        One row per scenario, variant and day.
+    """
+    names = [c.name for c in DAILY_COLUMNS]
+    variants: tuple[Literal["with", "without"], ...] = ("with", "without")
+    for item in results.scenarios:
+        scenario = safe_csv_text(item.scenario.name)
+        for variant in variants:
+            daily = item.variant(variant).daily
+            present = [n for n in names if n in daily.columns]
+            values = daily[present].to_numpy(dtype=np.float64)
+            dates = [pd.Timestamp(d).date() for d in daily.index]
+            start = dates[0] if dates else None
+            for i, day in enumerate(dates):
+                row = dict(zip(present, values[i], strict=True))
+                yield [
+                    scenario,
+                    VARIANT_WORDS[variant],
+                    day.isoformat(),
+                    str((day - start).days if start else 0),
+                    *(csv_number(row[n]) if n in row else "" for n in names),
+                ]
+
+
+def _csv_bytes(header: Sequence[str], rows: Iterable[Sequence[str]]) -> bytes:
+    buffer = io.StringIO(newline="")
+    writer = csv.writer(buffer, lineterminator="\r\n")
+    writer.writerow(header)
+    writer.writerows(rows)
+    return buffer.getvalue().encode("utf-8-sig")
+
+
+def daily_csv(results: PlanResults) -> bytes:
+    """``daily-series.csv``: every daily series of every scenario and variant.
+
+    Parameters
+    ----------
+    results : PlanResults
+        Results of every scenario.
+
+    Returns
+    -------
+    bytes
+        UTF-8 CSV text (with a byte order mark), CRLF line ends.
+    """
+    header = [c.name for c in KEY_COLUMNS] + [c.name for c in DAILY_COLUMNS]
+    return _csv_bytes(header, daily_rows(results))
+
+
+def columns_csv() -> bytes:
+    """``daily-series-columns.csv``: name, unit and meaning of each column.
+
+    Returns
+    -------
+    bytes
+        UTF-8 CSV text (with a byte order mark).
+    """
+    rows = [[c.name, c.unit, c.meaning] for c in (*KEY_COLUMNS, *DAILY_COLUMNS)]
+    return _csv_bytes(["column", "unit", "meaning"], rows)
+
+
+def uncertainty_daily_csv(uncertainty: Any) -> bytes | None:
+    """``uncertainty-daily.csv``: daily quantile bands and chances of running short.
+
+    Parameters
+    ----------
+    uncertainty : prepkit.uncertainty.UncertaintyResults or None
+        The ensemble.
+
+    Returns
+    -------
+    bytes or None
+        Long-form CSV (one row per scenario, variant and day; the band and
+        probability columns named as in the ensemble's tables, units in the
+        names), or None when there is no ensemble.
+    """
+    if uncertainty is None or not getattr(uncertainty, "scenarios", ()):
+        return None
+    first = uncertainty.scenarios[0].with_interventions
+    band_names = [str(c) for c in first.daily.columns]
+    chance_names = [str(c) for c in first.exceedance.columns]
+    header = ["scenario", "variant", "date", *band_names, *chance_names]
+
+    def rows() -> Iterable[list[str]]:
+        for item in uncertainty.scenarios:
+            scenario = safe_csv_text(item.scenario)
+            for variant in ("with", "without"):
+                result = item.variant(variant)
+                joined = result.daily.join(result.exceedance, how="left")
+                values = joined[band_names + chance_names].to_numpy(dtype=np.float64)
+                for i, stamp in enumerate(joined.index):
+                    yield [
+                        scenario,
+                        VARIANT_WORDS[variant],
+                        pd.Timestamp(stamp).date().isoformat(),
+                        *(csv_number(v) for v in values[i]),
+                    ]
+
+    return _csv_bytes(header, rows())
