@@ -107,10 +107,10 @@ class InterventionEffect:
     """
 
     ward_peak_reduction_beds: float
-    ward_peak_reduction_percent: float | None
+    ward_peak_reduction_share: float | None
     ward_peak_delay_days: int | None
     icu_peak_reduction_beds: float
-    icu_peak_reduction_percent: float | None
+    icu_peak_reduction_share: float | None
     icu_peak_delay_days: int | None
     averted_infections_persons: float
     averted_symptomatic_cases_persons: float
@@ -491,7 +491,7 @@ def scenario_metrics(
 
 def _reduction(with_peak: float, without_peak: float) -> tuple[float, float | None]:
     cut = without_peak - with_peak
-    return cut, (100.0 * cut / without_peak if without_peak > 0.0 else None)
+    return cut, (cut / without_peak if without_peak > 0.0 else None)
 
 
 def _delay(with_date: dt.date | None, without_date: dt.date | None) -> int | None:
@@ -519,10 +519,10 @@ def intervention_effect(with_: ScenarioMetrics, without: ScenarioMetrics) -> Int
     a, b = with_.total, without.total
     return InterventionEffect(
         ward_peak_reduction_beds=ward_cut,
-        ward_peak_reduction_percent=ward_pct,
+        ward_peak_reduction_share=ward_pct,
         ward_peak_delay_days=_delay(with_.ward.peak_date, without.ward.peak_date),
         icu_peak_reduction_beds=icu_cut,
-        icu_peak_reduction_percent=icu_pct,
+        icu_peak_reduction_share=icu_pct,
         icu_peak_delay_days=_delay(with_.icu.peak_date, without.icu.peak_date),
         averted_infections_persons=b.infections_persons - a.infections_persons,
         averted_symptomatic_cases_persons=b.symptomatic_cases_persons

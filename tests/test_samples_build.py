@@ -431,12 +431,12 @@ def test_vellmora_tells_the_planning_story(vellmora: Plan) -> None:
     assert 0 < ward.days_over_capacity_with_surge_days < ward.days_over_capacity_days
     assert 0 < icu.days_over_capacity_with_surge_days < icu.days_over_capacity_days
     # The measure package lowers and delays the peak.
-    assert worst.effect.ward_peak_reduction_percent is not None
-    assert worst.effect.ward_peak_reduction_percent > 30
+    assert worst.effect.ward_peak_reduction_share is not None
+    assert worst.effect.ward_peak_reduction_share > 0.30
     assert worst.effect.ward_peak_delay_days is not None and worst.effect.ward_peak_delay_days > 0
     central = results["Central planning case"].effect
-    assert central.ward_peak_reduction_percent is not None
-    assert central.ward_peak_reduction_percent > 20
+    assert central.ward_peak_reduction_share is not None
+    assert central.ward_peak_reduction_share > 0.20
     # The milder wave stays within the beds available to it, without surge.
     milder = results["Milder wave"].with_interventions.metrics
     assert milder.ward.days_over_capacity_days == 0 and milder.icu.days_over_capacity_days == 0

@@ -28,7 +28,7 @@ def test_summary_is_strict_json_with_every_scenario_and_variant() -> None:
         assert "unmet_bed_days_with_surge" in metrics["ward"]
         peak_date = metrics["ward"]["peak_date"]
         assert peak_date is None or len(peak_date) == 10
-    assert "ward_peak_reduction_percent" in first["intervention_effect"]
+    assert "ward_peak_reduction_share" in first["intervention_effect"]
     assert first["transmissibility"]["r0"] > 1.0
 
 

@@ -454,13 +454,13 @@ def surge_sentence(kind: BedKind, bed: BedMetrics) -> str:
     return f"The {beds} surge {noun} beds (ready from {ready}) would come too late to help."
 
 
-def _peak_change(reduction_percent: float | None, delay: int | None) -> str:
-    if reduction_percent is None:
+def _peak_change(reduction_share: float | None, delay: int | None) -> str:
+    if reduction_share is None:
         return "there is no ward demand to lower"
-    if reduction_percent >= 0.5:
-        text = f"lower the ward peak by {format_percent(reduction_percent / 100.0)}"
-    elif reduction_percent <= -0.5:
-        text = f"raise the ward peak by {format_percent(-reduction_percent / 100.0)}"
+    if reduction_share >= 0.005:
+        text = f"lower the ward peak by {format_percent(reduction_share)}"
+    elif reduction_share <= -0.005:
+        text = f"raise the ward peak by {format_percent(-reduction_share)}"
     else:
         text = "leave the ward peak almost unchanged"
     if delay is not None and delay > 0:
@@ -496,7 +496,7 @@ def measures_sentence(item: ScenarioResults) -> str:
             f"{format_number(without.ward.peak_demand_beds)} beds on "
             f"{format_date(without.ward.peak_date)}."
         )
-    change = _peak_change(effect.ward_peak_reduction_percent, effect.ward_peak_delay_days)
+    change = _peak_change(effect.ward_peak_reduction_share, effect.ward_peak_delay_days)
     admissions = effect.averted_admissions_persons
     deaths = effect.averted_deaths_persons
     if admissions >= 0.5:
@@ -730,9 +730,9 @@ def scenario_brief(view: ScenarioView) -> str:
         )
     if view.item.scenario.interventions:
         change = _peak_change(
-            view.item.effect.ward_peak_reduction_percent, view.item.effect.ward_peak_delay_days
+            view.item.effect.ward_peak_reduction_share, view.item.effect.ward_peak_delay_days
         )
-        if view.item.effect.ward_peak_reduction_percent is not None:
+        if view.item.effect.ward_peak_reduction_share is not None:
             parts.append(f"The measures {change}.")
     else:
         parts.append("No measures in this scenario.")

@@ -107,10 +107,10 @@ SUMMARY_COLUMNS: tuple[tuple[str, MetricGetter, str], ...] = (
 
 _EFFECT_COLUMNS: tuple[tuple[str, str, str], ...] = (
     ("Ward peak lowered by [beds]", "ward_peak_reduction_beds", "#,##0.0"),
-    ("Ward peak lowered by [%]", "ward_peak_reduction_percent", "0.0"),
+    ("Ward peak lowered by [fraction]", "ward_peak_reduction_share", "0.0%"),
     ("Ward peak delayed by [days]", "ward_peak_delay_days", "0"),
     ("ICU peak lowered by [beds]", "icu_peak_reduction_beds", "#,##0.0"),
-    ("ICU peak lowered by [%]", "icu_peak_reduction_percent", "0.0"),
+    ("ICU peak lowered by [fraction]", "icu_peak_reduction_share", "0.0%"),
     ("ICU peak delayed by [days]", "icu_peak_delay_days", "0"),
     ("Infections averted [persons]", "averted_infections_persons", "#,##0"),
     ("Admissions averted [persons]", "averted_admissions_persons", "#,##0"),
