@@ -56,6 +56,7 @@ from __future__ import annotations
 import ctypes
 import errno
 import hashlib
+import io
 import json
 import os
 import re
@@ -63,6 +64,7 @@ import secrets
 import shutil
 import sys
 import time
+import zipfile
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -72,6 +74,7 @@ from types import TracebackType
 from prepkit.errors import OutputError, PrepkitError
 
 __all__ = [
+    "normalise_xlsx",
     "MANIFEST_NAME",
     "PAUSE_ENV",
     "AtomicOutputDir",
@@ -182,6 +185,52 @@ def source_date(default: datetime | None = None) -> datetime:
     if default is not None:
         return default
     return datetime.now(tz=UTC).replace(microsecond=0)
+
+
+#: Time stamp given to every part of a normalised .xlsx file (the zip format
+#: starts in 1980).
+ZIP_TIME = (1980, 1, 1, 0, 0, 0)
+
+_MODIFIED = re.compile(rb"(<dcterms:modified[^>]*>)[^<]*(</dcterms:modified>)")
+
+
+def normalise_xlsx(data: bytes, modified: datetime | None = None) -> bytes:
+    """Rewrite an ``.xlsx`` file so equal content gives equal bytes.
+
+    openpyxl stamps each part in the zip with the time of saving and sets
+    the document's "modified" date to the moment of saving; both are
+    replaced here.
+
+    Parameters
+    ----------
+    data : bytes
+        The file as openpyxl saved it.
+    modified : datetime.datetime, optional
+        Date to store as the document's modification date (UTC); left as
+        saved when None.
+
+    Returns
+    -------
+    bytes
+        The same parts, in the same order, each stamped 1980-01-01 00:00.
+    """
+    stamp = (
+        modified.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ").encode()
+        if modified is not None
+        else None
+    )
+    source = zipfile.ZipFile(io.BytesIO(data))
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", compression=zipfile.ZIP_DEFLATED) as target:
+        for info in source.infolist():
+            body = source.read(info.filename)
+            if stamp is not None and info.filename == "docProps/core.xml":
+                body = _MODIFIED.sub(lambda m: m[1] + stamp + m[2], body)
+            entry = zipfile.ZipInfo(info.filename, date_time=ZIP_TIME)
+            entry.compress_type = zipfile.ZIP_DEFLATED
+            entry.external_attr = 0o600 << 16
+            target.writestr(entry, body)
+    return out.getvalue()
 
 
 def file_sha256(path: str | os.PathLike[str]) -> str:

@@ -17,6 +17,7 @@ them without reading a workbook back.
 from __future__ import annotations
 
 import datetime as dt
+import os
 import sys
 from collections.abc import Sequence
 from pathlib import Path
@@ -50,6 +51,8 @@ VELLMORA_FILE = "vellmora_city.xlsx"
 TAMSETT_FILE = "tamsett_hollow.xlsx"
 
 DAY0 = dt.date(2027, 1, 4)
+#: Document date stored in the sample workbooks (2026-12-01 00:00 UTC).
+SAMPLE_DATE_EPOCH = 1_796_083_200
 
 # ---- Note texts --------------------------------------------------------------------------
 
@@ -700,6 +703,8 @@ def build(outdir: Path = HERE) -> list[Path]:
 def main(argv: Sequence[str] | None = None) -> int:
     args = list(sys.argv[1:] if argv is None else argv)
     outdir = Path(args[0]) if args else HERE
+    # A fixed document date, so rebuilding unchanged plans gives identical files.
+    os.environ.setdefault("SOURCE_DATE_EPOCH", str(SAMPLE_DATE_EPOCH))
     for path in build(outdir):
         print(f"wrote {path}")
     return 0

@@ -345,3 +345,13 @@ def test_spreadsheet_program_opens_and_resaves_the_workbooks(
 
     from prepkit.plan import Source
     assert replace(resaved, source=Source()) == plan
+
+
+def test_template_bytes_are_reproducible(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # Same schema and SOURCE_DATE_EPOCH give the same bytes (common practice, no source:
+    # reproducible-builds convention for SOURCE_DATE_EPOCH).
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1796083200")
+    first, second = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
+    write_workbook(first)
+    write_workbook(second)
+    assert first.read_bytes() == second.read_bytes()

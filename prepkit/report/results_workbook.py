@@ -28,8 +28,6 @@ from __future__ import annotations
 import datetime as dt
 import io
 import math
-import re
-import zipfile
 from collections.abc import Callable, Sequence
 from typing import Any
 
@@ -42,6 +40,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from prepkit.engine import PlanResults
 from prepkit.metrics import ScenarioMetrics
+from prepkit.outputs import normalise_xlsx
 from prepkit.plan import LEVELS, Plan
 from prepkit.report import context as words
 from prepkit.report.safety import write_text_cell, write_text_row
@@ -64,7 +63,6 @@ _WRAP = Alignment(wrap_text=True, vertical="top")
 _DATE_FORMAT = "yyyy-mm-dd"
 
 #: Fixed time stamp of the zip entries (the earliest a zip file can hold).
-_ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 
 MetricGetter = Callable[[ScenarioMetrics], Any]
 
@@ -446,48 +444,6 @@ def results_workbook(
     _inputs(wb.create_sheet("Inputs"), plan)
     _column_guide(wb.create_sheet("Column guide"))
     return wb
-
-
-_MODIFIED = re.compile(rb"(<dcterms:modified[^>]*>)[^<]*(</dcterms:modified>)")
-
-
-def normalise_xlsx(data: bytes, modified: dt.datetime | None = None) -> bytes:
-    """Rewrite an ``.xlsx`` file so equal content gives equal bytes.
-
-    openpyxl stamps each part in the zip with the time of saving and sets
-    the document's "modified" date to the moment of saving; both are
-    replaced here.
-
-    Parameters
-    ----------
-    data : bytes
-        The file as openpyxl saved it.
-    modified : datetime.datetime, optional
-        Date to store as the document's modification date (UTC); left as
-        saved when None.
-
-    Returns
-    -------
-    bytes
-        The same parts, in the same order, each stamped 1980-01-01 00:00.
-    """
-    stamp = (
-        modified.astimezone(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ").encode()
-        if modified is not None
-        else None
-    )
-    source = zipfile.ZipFile(io.BytesIO(data))
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w", compression=zipfile.ZIP_DEFLATED) as target:
-        for info in source.infolist():
-            body = source.read(info.filename)
-            if stamp is not None and info.filename == "docProps/core.xml":
-                body = _MODIFIED.sub(lambda m: m[1] + stamp + m[2], body)
-            entry = zipfile.ZipInfo(info.filename, date_time=_ZIP_TIME)
-            entry.compress_type = zipfile.ZIP_DEFLATED
-            entry.external_attr = 0o600 << 16
-            target.writestr(entry, body)
-    return out.getvalue()
 
 
 def results_workbook_bytes(

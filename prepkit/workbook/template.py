@@ -15,10 +15,12 @@ formatting, sorting and filtering stay allowed while protected.
 from __future__ import annotations
 
 import datetime as dt
+import io
 import math
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Literal
 
 from openpyxl import Workbook
@@ -33,7 +35,9 @@ from openpyxl.worksheet.table import Table as ExcelTable
 from openpyxl.worksheet.table import TableStyleInfo
 from openpyxl.worksheet.worksheet import Worksheet
 
+from prepkit import __version__
 from prepkit.errors import OutputError
+from prepkit.outputs import normalise_xlsx, source_date
 from prepkit.plan import Intervention, Level, Plan, Range3
 from prepkit.workbook import schema
 from prepkit.workbook.cells import EARLIEST_DATE, LATEST_DATE, normalise_key
@@ -129,8 +133,17 @@ def write_workbook(
         When the file cannot be written.
     """
     workbook = build_workbook(plan, notes)
+    # Same plan and SOURCE_DATE_EPOCH give the same bytes: fixed document
+    # dates and zip time stamps.
+    stamp = source_date().replace(tzinfo=None, microsecond=0)
+    workbook.properties.created = stamp
+    workbook.properties.modified = stamp
+    workbook.properties.creator = f"prepkit {__version__}"
+    buffer = io.BytesIO()
+    workbook.save(buffer)
+    data = normalise_xlsx(buffer.getvalue(), modified=source_date())
     try:
-        workbook.save(os.fspath(path))
+        Path(os.fspath(path)).write_bytes(data)
     except OSError as exc:
         raise OutputError(f"could not write the workbook {os.fspath(path)!r}: {exc}") from exc
 
