@@ -53,6 +53,13 @@ def _parser() -> argparse.ArgumentParser:
                    help="compute the metrics and write only the JSON summary")
     r.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
 
+    w = sub.add_parser("watch", help="build the pack, then rebuild it on every save")
+    w.add_argument("workbook", type=Path)
+    w.add_argument("-o", "--outdir", type=Path, default=None,
+                   help="folder for the pack (default: <workbook name>-pack beside it)")
+    w.add_argument("--draws", type=int, default=None,
+                   help="uncertainty draws per scenario (overrides the workbook; 0 = none)")
+
     d = sub.add_parser("demo", help="run the bundled sample city and write its pack")
     d.add_argument("outdir", type=Path, nargs="?", default=Path("prepkit-demo"))
     d.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
@@ -103,6 +110,8 @@ def _dispatch(args: argparse.Namespace) -> int:
         return _run(args)
     if args.command == "demo":
         return _demo(args)
+    if args.command == "watch":
+        return _watch(args)
     raise AssertionError(args.command)
 
 
@@ -158,6 +167,22 @@ def _demo(args: argparse.Namespace) -> int:
     report = run_demo(options, say=_sayer(args.quiet))
     if not args.quiet:
         print(report)
+    return EXIT_OK
+
+
+def _watch(args: argparse.Namespace) -> int:
+    from prepkit.pipeline import RunOptions, run_workbook
+    from prepkit.watch import watch_workbook
+
+    if not args.workbook.is_file():
+        print(f"prepkit: there is no workbook at {args.workbook}.", file=sys.stderr)
+        return EXIT_INPUT
+    options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=True)
+
+    def build() -> str:
+        return run_workbook(args.workbook, options, say=_sayer(True))
+
+    watch_workbook(args.workbook, build, say=print)
     return EXIT_OK
 
 
