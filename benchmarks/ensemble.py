@@ -99,6 +99,7 @@ def rk45_run(model: CompiledModel) -> np.ndarray:
     status = np.zeros(n_int, dtype=np.int64)
     started = np.zeros(n_int)
     pd = np.zeros(daily_size(model.layout.bands))
+    scratch = np.empty(5 * model.layout.bands)
     states = np.empty((model.horizon_days + 1, y.size))
     states[0] = y
     y_prev = y.copy()
@@ -106,7 +107,7 @@ def rk45_run(model: CompiledModel) -> np.ndarray:
 
     def fun(t: float, x: np.ndarray) -> np.ndarray:
         out = np.empty_like(x)
-        rhs(t, x, model.pc, pd, model.lay, out)
+        rhs(t, x, model.pc, pd, model.lay, out, scratch)
         return out
 
     for day in range(model.horizon_days):

@@ -87,6 +87,7 @@ from prepkit.model.ensemble import (
     DrawSeries,
     DrawValues,
     employed_weights,
+    in_threads,
     simulate_draws,
 )
 from prepkit.model.inputs import DOUBLING_TIME_LEVEL, validate_plan
@@ -270,7 +271,15 @@ def pert_ppf(
         # Bands often share one shape (ranges scaled alike): invert each distinct
         # shape once, then rescale to each band's range.
         shapes, which = np.unique(np.stack([alpha, beta], axis=1), axis=0, return_inverse=True)
-        x = betaincinv(shapes[None, :, 0], shapes[None, :, 1], q[:, None])[:, which.ravel()]
+        # draws split between threads (the inversion releases the GIL); element by element,
+        # so the numbers are those of one call
+        count = max(1, min(q.shape[0] * shapes.shape[0] // 4096, os.cpu_count() or 1))
+        edges = np.linspace(0, q.shape[0], count + 1).astype(int)
+        parts = [slice(lo, hi) for lo, hi in zip(edges[:-1], edges[1:], strict=True)]
+        got = in_threads(
+            lambda rows: betaincinv(shapes[None, :, 0], shapes[None, :, 1], q[rows, None]), parts
+        )
+        x = np.concatenate(got, axis=0)[:, which.ravel()]
         out[:, spread] = a[spread] + x * (b[spread] - a[spread])
     if np.ndim(low) == 0 and np.ndim(mode) == 0 and np.ndim(high) == 0:
         return np.asarray(out[:, 0], dtype=np.float64)

@@ -74,13 +74,14 @@ def test_f_minus_v_is_the_jacobian_of_the_simulated_equations() -> None:
                np.zeros(0, np.int64), np.zeros(0), pd)
     lo, hi = layout.offsets[BLK_E], layout.offsets[BLK_W]
     base = np.empty(layout.size)
-    rhs(0.0, y, model.pc, pd, model.lay, base)
+    scratch = np.empty(5 * layout.bands)
+    rhs(0.0, y, model.pc, pd, model.lay, base, scratch)
     jac = np.empty((hi - lo, hi - lo))
     for col in range(hi - lo):
         bumped = y.copy()
         bumped[lo + col] += 1.0
         out = np.empty(layout.size)
-        rhs(0.0, bumped, model.pc, pd, model.lay, out)
+        rhs(0.0, bumped, model.pc, pd, model.lay, out, scratch)
         jac[:, col] = (out - base)[lo:hi]
     f_mat, v_mat, _ = infected_subsystem(
         model.pc, layout, unprotected_share=1 - protected, protected_share=protected

@@ -44,7 +44,8 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -101,6 +102,10 @@ engine's own limit is :data:`prepkit.model.compile.MAX_STEP_RATE`."""
 
 DEFAULT_BLOCKS = 8
 """Draws are run in this many blocks, so that progress can be reported between them."""
+
+EIG_CHUNK = 2048
+"""Most draws whose next-generation matrices :func:`calibrate_beta` stacks at once (over all
+threads)."""
 
 SERIES_NAMES: tuple[str, ...] = (
     "ward_census_persons",
@@ -327,11 +332,19 @@ def calibrate_beta(
     weights = latent[:, None] * (
         (rho * (1.0 - p_sym) + (p_sym - h)) * at_home[:, None] + h * waiting
     )
-    unit = np.empty(weights.shape[0])
-    for start in range(0, weights.shape[0], 2048):  # chunks keep the stacked matrices small
-        rows = slice(start, start + 2048)
+
+    def spectral_radius(rows: slice) -> NDArray[np.float64]:
         ngm = base[None, :, :] * weights[rows, None, :]
-        unit[rows] = np.max(np.abs(np.linalg.eigvals(ngm)), axis=1)
+        return np.asarray(np.max(np.abs(np.linalg.eigvals(ngm)), axis=1), dtype=np.float64)
+
+    # chunks keep the stacked matrices small: at most EIG_CHUNK draws at once over all
+    # threads (LAPACK releases the GIL); each chunk is computed exactly as on its own
+    n_rows = weights.shape[0]
+    threads = max(1, numba.get_num_threads())
+    count = threads * math.ceil(n_rows / EIG_CHUNK)
+    edges = np.linspace(0, n_rows, count + 1).astype(int)
+    parts = [slice(a, b) for a, b in zip(edges[:-1], edges[1:], strict=True)]
+    unit = np.concatenate(in_threads(spectral_radius, parts)) if parts else np.empty(0)
     if np.any(unit <= 0.0):
         raise ModelError("nobody can infect anybody: contacts or infectiousness are all zero")
     beta = (target if kind == "r0" else np.ones_like(target)) / unit
@@ -499,6 +512,33 @@ def use_all_cores() -> int:
     wanted = max(1, min(os.cpu_count() or 1, ceiling))
     numba.set_num_threads(wanted)
     return wanted
+
+
+def in_threads(
+    func: Callable[[Any], NDArray[Any]], parts: Sequence[Any]
+) -> list[NDArray[Any]]:
+    """``[func(part) for part in parts]`` on up to numba's thread count of threads.
+
+    Meant for NumPy work that releases the GIL (batched eigenvalues, partitions); each part
+    is computed exactly as it would be on its own, so the numbers do not change.
+
+    Parameters
+    ----------
+    func : callable
+        Function of one part.
+    parts : sequence
+        The parts.
+
+    Returns
+    -------
+    list of ndarray
+        ``func`` of each part, in order.
+    """
+    workers = min(len(parts), max(1, numba.get_num_threads()))
+    if workers <= 1:
+        return [func(part) for part in parts]
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        return list(pool.map(func, parts))
 
 
 def employed_weights(plan: Plan) -> NDArray[np.float64]:

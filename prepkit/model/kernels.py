@@ -147,7 +147,10 @@ def season_factor(t: float, amplitude: float, peak_day: float) -> float:
     return 1.0 + amplitude * math.cos(TWO_PI * (t - peak_day) / YEAR_DAYS)
 
 
-@njit(cache=True)
+# error_model='numpy': a division by zero would give inf or nan instead of raising, which lets
+# the compiler vectorise the band loop holding ``imports * S_i / N`` (N, the total population,
+# is positive); every number is the same.
+@njit(cache=True, error_model='numpy')
 def rhs(
     t: float,
     y: NDArray[np.float64],
@@ -155,6 +158,7 @@ def rhs(
     pd: NDArray[np.float64],
     lay: NDArray[np.int64],
     dy: NDArray[np.float64],
+    scratch: NDArray[np.float64],
 ) -> None:
     """Write the time derivative of the state ``y`` at time ``t`` into ``dy``.
 
@@ -171,7 +175,9 @@ def rhs(
     lay : ndarray of int64
         Layout array.
     dy : ndarray
-        Output [per day].
+        Output [per day]; every entry is written.
+    scratch : ndarray
+        Scratch space of at least ``5 B`` numbers (``B`` bands); overwritten.
     """
     # Indices are unsigned: numba then skips the negative-index wrap-around test on every
     # array access, which takes about a quarter off the time of this function; every number
@@ -229,27 +235,72 @@ def rhs(
     o_kappa = nb * nb + nb
     iso_y = pd[nb * nb + _U(2) * nb]
 
-    for q in range(dy.size):
-        dy[q] = 0.0
+    # The work runs stage by stage with the band innermost: a stage's bands sit side by side
+    # in y and dy and do not depend on one another, so these short loops run over contiguous
+    # memory and the compiler vectorises them. Each number is computed with the same
+    # operations in the same order as band by band. A chain's stage s gains what leaves
+    # stage s - 1 (the chain's inflow for s = 0) and loses what leaves it, ``rate * y``; that
+    # product is formed where it is needed rather than carried. Every entry of dy is
+    # written, so dy needs no zeroing. Scratch rows (indexed directly: views would cost a
+    # reference count update each): the pressure X, the force sum, and the stage sums of A,
+    # Y and P. Every chain has at least one stage (checked by validate_plan).
+    x_pressure = _U(0) * nb
+    x_force = _U(1) * nb
+    x_a = _U(2) * nb
+    x_y = _U(3) * nb
+    x_p = _U(4) * nb
+    last_e = o_e + (m - one) * nb
+    last_ev = o_ev + (m - one) * nb
+    last_a = o_a + (n - one) * nb
+    last_y = o_y + (n - one) * nb
+    last_p = o_p + (k - one) * nb
+    last_w = o_w + (nw - one) * nb
+    last_c = o_c + (nc - one) * nb
 
-    pressure = np.empty(lay[LAY_BANDS])
+    # infectious pressure X_j of each band (sums over stages, first the A and Y chains, then P)
     for j in range(nb):
-        a_sum = 0.0
-        y_sum = 0.0
-        for s in range(n):
-            a_sum += y[o_a + s * nb + j]
-            y_sum += y[o_y + s * nb + j]
-        p_sum = 0.0
-        for s in range(k):
-            p_sum += y[o_p + s * nb + j]
-        pressure[j] = iso_y * y_sum + pd[o_isop + j] * p_sum + rho * a_sum
-
-    for i in range(nb):
-        lam = 0.0
+        scratch[x_a + j] = 0.0
+        scratch[x_y + j] = 0.0
+        scratch[x_p + j] = 0.0
+    for s in range(n):
         for j in range(nb):
-            lam += pd[i * nb + j] * pressure[j]
-        lam *= season
+            scratch[x_a + j] += y[o_a + s * nb + j]
+        for j in range(nb):
+            scratch[x_y + j] += y[o_y + s * nb + j]
+    for s in range(k):
+        for j in range(nb):
+            scratch[x_p + j] += y[o_p + s * nb + j]
+    for j in range(nb):
+        scratch[x_pressure + j] = (
+            iso_y * scratch[x_y + j] + pd[o_isop + j] * scratch[x_p + j] + rho * scratch[x_a + j]
+        )
+        scratch[x_force + j] = 0.0
+    # lambda_i = season * sum_j K_ij X_j, summed over j in order for every band i; four
+    # columns per pass over the bands (the running sums stay in registers between them)
+    col = _U(0)
+    while col + _U(4) <= nb:
+        x0 = scratch[x_pressure + col]
+        x1 = scratch[x_pressure + col + one]
+        x2 = scratch[x_pressure + col + _U(2)]
+        x3 = scratch[x_pressure + col + _U(3)]
+        c0 = col * nb
+        c1 = c0 + nb
+        c2 = c1 + nb
+        c3 = c2 + nb
+        for i in range(nb):
+            scratch[x_force + i] = (
+                ((scratch[x_force + i] + pd[c0 + i] * x0) + pd[c1 + i] * x1) + pd[c2 + i] * x2
+            ) + pd[c3 + i] * x3
+        col += _U(4)
+    while col < nb:
+        x = scratch[x_pressure + col]
+        for i in range(nb):
+            scratch[x_force + i] += pd[col * nb + i] * x
+        col += one
 
+    # infection, importation, dosing; first stage of the latent chains
+    for i in range(nb):
+        lam = scratch[x_force + i] * season
         sus = y[o_s + i]
         waiting = y[o_v0 + i]
         protected = y[o_v + i]
@@ -262,96 +313,79 @@ def rhs(
         dy[o_s + i] = -lam * sus - imported - dosed
         dy[o_v0 + i] = to_wait * dosed - lam * waiting - protecting
         dy[o_v + i] = (1.0 - to_wait) * dosed + protecting - new_protected
+        dy[o_e + i] = (new_unprotected + imported) - lat * y[o_e + i]
+        dy[o_ev + i] = new_protected - lat * y[o_ev + i]
+        dy[o_inf + i] = new_unprotected + new_protected + imported
+        dy[o_dose + i] = dosed
+    for s in range(one, m):
+        for i in range(nb):
+            dy[o_e + s * nb + i] = lat * y[o_e + (s - one) * nb + i] - lat * y[o_e + s * nb + i]
+        for i in range(nb):
+            dy[o_ev + s * nb + i] = (
+                lat * y[o_ev + (s - one) * nb + i] - lat * y[o_ev + s * nb + i]
+            )
 
-        # latent chains
-        dy[o_e + i] += new_unprotected + imported
-        dy[o_ev + i] += new_protected
-        out_e = 0.0
-        out_ev = 0.0
-        for s in range(m):
-            fe = lat * y[o_e + s * nb + i]
-            fv = lat * y[o_ev + s * nb + i]
-            dy[o_e + s * nb + i] -= fe
-            dy[o_ev + s * nb + i] -= fv
-            if s + one < m:
-                dy[o_e + (s + one) * nb + i] += fe
-                dy[o_ev + (s + one) * nb + i] += fv
-            else:
-                out_e = fe
-                out_ev = fv
-
+    # symptom onset (end of the latent chains); first stage of A, Y and P
+    for i in range(nb):
+        out_e = lat * y[last_e + i]
+        out_ev = lat * y[last_ev + i]
         p_sym = pc[f_sym + i]
         h = pc[f_admit + i]
         hv = pc[f_admit_v + i]
-        dy[o_a + i] += (1.0 - p_sym) * (out_e + out_ev)
-        dy[o_y + i] += (p_sym - h) * out_e + (p_sym - hv) * out_ev
-        dy[o_p + i] += h * out_e + hv * out_ev
-
-        # infectious chains
-        recovered = 0.0
-        for s in range(n):
-            fa = inf * y[o_a + s * nb + i]
-            fy = inf * y[o_y + s * nb + i]
-            dy[o_a + s * nb + i] -= fa
-            dy[o_y + s * nb + i] -= fy
-            if s + one < n:
-                dy[o_a + (s + one) * nb + i] += fa
-                dy[o_y + (s + one) * nb + i] += fy
-            else:
-                recovered += fa + fy
-
-        # waiting for admission
-        wait_rate = pc[f_wait + i]
-        admitted = 0.0
-        for s in range(k):
-            fp = wait_rate * y[o_p + s * nb + i]
-            dy[o_p + s * nb + i] -= fp
-            if s + one < k:
-                dy[o_p + (s + one) * nb + i] += fp
-            else:
-                admitted = fp
-        u = pc[f_icu + i]
-        dy[o_c + i] += u * admitted
-        dy[o_w + i] += (1.0 - u) * admitted
-
-        # hospital stays
-        ward_rate = pc[f_ward_rate + i]
-        ward_out = 0.0
-        ward_total = 0.0
-        for s in range(nw):
-            occ = y[o_w + s * nb + i]
-            ward_total += occ
-            fw = ward_rate * occ
-            dy[o_w + s * nb + i] -= fw
-            if s + one < nw:
-                dy[o_w + (s + one) * nb + i] += fw
-            else:
-                ward_out = fw
-        icu_rate = pc[f_icu_rate + i]
-        icu_out = 0.0
-        icu_total = 0.0
-        for s in range(nc):
-            occ = y[o_c + s * nb + i]
-            icu_total += occ
-            fc = icu_rate * occ
-            dy[o_c + s * nb + i] -= fc
-            if s + one < nc:
-                dy[o_c + (s + one) * nb + i] += fc
-            else:
-                icu_out = fc
-        ward_death = pc[f_ward_fat + i] * ward_out
-        icu_death = pc[f_icu_fat + i] * icu_out
-        dy[o_r + i] += recovered + (ward_out - ward_death) + (icu_out - icu_death)
-        dy[o_d + i] += ward_death + icu_death
-
-        # counters
-        dy[o_inf + i] = new_unprotected + new_protected + imported
+        dy[o_a + i] = (1.0 - p_sym) * (out_e + out_ev) - inf * y[o_a + i]
+        dy[o_y + i] = ((p_sym - h) * out_e + (p_sym - hv) * out_ev) - inf * y[o_y + i]
+        dy[o_p + i] = (h * out_e + hv * out_ev) - pc[f_wait + i] * y[o_p + i]
         dy[o_onset + i] = p_sym * (out_e + out_ev)
+    for s in range(one, n):
+        for i in range(nb):
+            dy[o_a + s * nb + i] = inf * y[o_a + (s - one) * nb + i] - inf * y[o_a + s * nb + i]
+        for i in range(nb):
+            dy[o_y + s * nb + i] = inf * y[o_y + (s - one) * nb + i] - inf * y[o_y + s * nb + i]
+    for s in range(one, k):
+        for i in range(nb):
+            dy[o_p + s * nb + i] = (
+                pc[f_wait + i] * y[o_p + (s - one) * nb + i] - pc[f_wait + i] * y[o_p + s * nb + i]
+            )
+
+    # admission (end of P); first stage of the ward and ICU chains
+    for i in range(nb):
+        admitted = pc[f_wait + i] * y[last_p + i]
+        u = pc[f_icu + i]
+        dy[o_c + i] = u * admitted - pc[f_icu_rate + i] * y[o_c + i]
+        dy[o_w + i] = (1.0 - u) * admitted - pc[f_ward_rate + i] * y[o_w + i]
         dy[o_adm + i] = admitted
         dy[o_icu + i] = u * admitted
-        dy[o_dose + i] = dosed
-        dy[o_ward_days + i] = ward_total
-        dy[o_icu_days + i] = icu_total
+        dy[o_ward_days + i] = 0.0
+        dy[o_icu_days + i] = 0.0
+    # hospital stays (bed-days: occupancy summed over stages)
+    for s in range(one, nw):
+        for i in range(nb):
+            dy[o_w + s * nb + i] = (
+                pc[f_ward_rate + i] * y[o_w + (s - one) * nb + i]
+                - pc[f_ward_rate + i] * y[o_w + s * nb + i]
+            )
+    for s in range(one, nc):
+        for i in range(nb):
+            dy[o_c + s * nb + i] = (
+                pc[f_icu_rate + i] * y[o_c + (s - one) * nb + i]
+                - pc[f_icu_rate + i] * y[o_c + s * nb + i]
+            )
+    for s in range(nw):
+        for i in range(nb):
+            dy[o_ward_days + i] += y[o_w + s * nb + i]
+    for s in range(nc):
+        for i in range(nb):
+            dy[o_icu_days + i] += y[o_c + s * nb + i]
+
+    # recovery, discharge and death (ends of A, Y, W and C)
+    for i in range(nb):
+        recovered = inf * y[last_a + i] + inf * y[last_y + i]
+        ward_out = pc[f_ward_rate + i] * y[last_w + i]
+        icu_out = pc[f_icu_rate + i] * y[last_c + i]
+        ward_death = pc[f_ward_fat + i] * ward_out
+        icu_death = pc[f_icu_fat + i] * icu_out
+        dy[o_r + i] = recovered + (ward_out - ward_death) + (icu_out - icu_death)
+        dy[o_d + i] = ward_death + icu_death
 
 
 @njit(cache=True)
@@ -377,7 +411,7 @@ def rk4_day(
     substeps : int
         Equal RK4 steps per day.
     work : ndarray
-        Scratch space of shape (5, y.size).
+        Scratch space of shape (6, y.size).
 
     References
     ----------
@@ -386,25 +420,28 @@ def rk4_day(
     """
     size = y.size
     h = 1.0 / substeps
+    half = 0.5 * h
+    sixth = h / 6.0
     k1 = work[0]
     k2 = work[1]
     k3 = work[2]
     k4 = work[3]
     tmp = work[4]
+    scratch = work[5]
     for step in range(substeps):
         t = t0 + step * h
-        rhs(t, y, pc, pd, lay, k1)
+        rhs(t, y, pc, pd, lay, k1, scratch)
         for q in range(size):
-            tmp[q] = y[q] + 0.5 * h * k1[q]
-        rhs(t + 0.5 * h, tmp, pc, pd, lay, k2)
+            tmp[q] = y[q] + half * k1[q]
+        rhs(t + half, tmp, pc, pd, lay, k2, scratch)
         for q in range(size):
-            tmp[q] = y[q] + 0.5 * h * k2[q]
-        rhs(t + 0.5 * h, tmp, pc, pd, lay, k3)
+            tmp[q] = y[q] + half * k2[q]
+        rhs(t + half, tmp, pc, pd, lay, k3, scratch)
         for q in range(size):
             tmp[q] = y[q] + h * k3[q]
-        rhs(t + h, tmp, pc, pd, lay, k4)
+        rhs(t + h, tmp, pc, pd, lay, k4, scratch)
         for q in range(size):
-            y[q] += h / 6.0 * (k1[q] + 2.0 * k2[q] + 2.0 * k3[q] + k4[q])
+            y[q] += sixth * (k1[q] + 2.0 * k2[q] + 2.0 * k3[q] + k4[q])
 
 
 @njit(cache=True)
@@ -560,7 +597,8 @@ def decide_measures(
     for i in range(nb):
         pd[o_isop + i] = 1.0
         pd[o_kappa + i] = 0.0
-    allocated = np.zeros(nb)
+    # doses allocated to each band are summed in the dosing-rate slots of pd (zeroed above; no
+    # allocation per day), then turned into rates at the end
     for r in range(n_int):
         if status[r] != STATUS_ACTIVE:
             continue
@@ -579,16 +617,19 @@ def decide_measures(
                 i = iprio[r, q]
                 if i < 0 or remaining <= 0.0:
                     break
-                room = ceiling * pc[P_POP * nb + i] - y[o_dose + i] - allocated[i]
-                stock = y[o_s + i] - allocated[i]
+                room = ceiling * pc[P_POP * nb + i] - y[o_dose + i] - pd[o_kappa + i]
+                stock = y[o_s + i] - pd[o_kappa + i]
                 give = min(remaining, room, stock)
                 if give > 0.0:
-                    allocated[i] += give
+                    pd[o_kappa + i] += give
                     remaining -= give
     pd[nb * nb + 2 * nb] = iso_y
     for i in range(nb):
-        if allocated[i] > 0.0 and y[o_s + i] > 0.0:
-            pd[o_kappa + i] = allocated[i] / y[o_s + i]
+        allocated = pd[o_kappa + i]
+        if allocated > 0.0 and y[o_s + i] > 0.0:
+            pd[o_kappa + i] = allocated / y[o_s + i]
+        else:
+            pd[o_kappa + i] = 0.0
 
 
 @njit(cache=True)
@@ -599,6 +640,9 @@ def contact_matrix(
     pd: NDArray[np.float64],
 ) -> None:
     """Write ``K_ij = beta sigma_i sum_s mult_s M^s_ij / N_j`` into the first ``B * B`` of ``pd``.
+
+    The matrix is stored column by column (``K_ij`` at ``j * B + i``): :func:`rhs` sums
+    ``K_ij X_j`` over ``j`` for all bands ``i`` at once, reading each column contiguously.
 
     Parameters
     ----------
@@ -623,7 +667,7 @@ def contact_matrix(
             total = 0.0
             for s in range(_U(N_SETTINGS)):
                 total += multiplier[s] * pc[o_m + s * cells + i * ub + j]
-            pd[i * ub + j] = scale * total / pc[o_pop + j]
+            pd[j * ub + i] = scale * total / pc[o_pop + j]
 
 
 @njit(cache=True)
@@ -665,7 +709,7 @@ def run_days(
     status = np.zeros(n_int, dtype=np.int64)
     started = np.zeros(n_int)
     pd = np.zeros(nb * nb + 2 * nb + 1)
-    work = np.empty((5, size))
+    work = np.empty((6, size))
     y = y0.copy()
     y_prev = y0.copy()
     states[0, :] = y
@@ -756,7 +800,7 @@ def run_draws(
         itab = itabs[d]
         y = y0.copy()
         y_prev = y0.copy()
-        work = np.empty((5, size))
+        work = np.empty((6, size))
         pd = np.zeros(nb * nb + 2 * nb + 1)
         status = np.zeros(n_int, dtype=np.int64)
         started = np.zeros(n_int)

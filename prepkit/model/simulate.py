@@ -122,6 +122,7 @@ def simulate_reference(
     status = np.zeros(n_int, dtype=np.int64)
     started = np.zeros(n_int)
     pd = np.zeros(daily_size(model.layout.bands))
+    scratch = np.empty(5 * model.layout.bands)
     states = np.empty((horizon + 1, y.size))
     active = np.zeros((horizon, n_int), dtype=bool)
     states[0] = y
@@ -130,7 +131,7 @@ def simulate_reference(
 
     def fun(t: float, x: NDArray[np.float64]) -> NDArray[np.float64]:
         out = np.empty_like(x)
-        rhs(t, x, model.pc, pd, model.lay, out)
+        rhs(t, x, model.pc, pd, model.lay, out, scratch)
         return out
 
     for day in range(horizon):
