@@ -552,3 +552,20 @@ def test_cell_text_helpers() -> None:
     assert safe_csv_text("plain") == "plain"
     assert all(looks_like_formula(t) for t in HOSTILE_CELLS[:-1])
     assert not looks_like_formula("plain text")
+
+
+def test_render_leaves_no_font_folder_behind(tmp_path: Path) -> None:
+    # weasyprint copies @font-face fonts to a temporary folder and removes it only when
+    # garbage-collected; a worker process ends with os._exit, which collects nothing.
+    child = textwrap.dedent(
+        """
+        import os
+        from prepkit.report.render import html_to_pdf, render_html
+        html = render_html("base.html.j2", {"title": "T", "page_size": "A4", "provenance": "p"})
+        html_to_pdf(html, page_size="A4", title="T")
+        os._exit(0)
+        """
+    )
+    env = {**os.environ, "TMPDIR": str(tmp_path)}
+    subprocess.run([sys.executable, "-c", child], check=True, env=env, timeout=120)
+    assert list(tmp_path.glob("weasyprint-*")) == []

@@ -19,6 +19,7 @@ Two steps, kept apart so each can be tested alone:
 
 from __future__ import annotations
 
+import shutil
 from collections.abc import Mapping
 from datetime import UTC, datetime
 from pathlib import Path
@@ -26,6 +27,7 @@ from typing import Any
 
 import jinja2
 from weasyprint import HTML
+from weasyprint.text.fonts import FontConfiguration
 
 from prepkit.errors import PrepkitError
 from prepkit.outputs import source_date
@@ -192,8 +194,32 @@ def html_to_pdf(
         raise ValueError(f"page_size: expected one of {sorted(PAGE_SIZES_MM)}, found {page_size!r}")
     url_fetcher = fetcher if fetcher is not None else AssetFetcher()
     base = base_url if base_url is not None else templates_dir().as_uri() + "/"
+    # weasyprint copies @font-face fonts into a temporary folder that its
+    # FontConfiguration removes only when garbage-collected, which never happens in
+    # a worker process that ends with os._exit: remove it ourselves.
+    fonts = FontConfiguration()
+    try:
+        return _render_pdf(html, base, url_fetcher, fonts, page_size=page_size, title=title,
+                           lang=lang, created=created)
+    finally:
+        folder = getattr(fonts, "_folder", None)
+        if folder:
+            shutil.rmtree(folder, ignore_errors=True)
+
+
+def _render_pdf(
+    html: str,
+    base: str,
+    url_fetcher: Any,
+    fonts: Any,
+    *,
+    page_size: str,
+    title: str,
+    lang: str,
+    created: datetime | None,
+) -> bytes:
     document = HTML(string=html, base_url=base, url_fetcher=url_fetcher, media_type="print").render(
-        pdf_variant=PDF_VARIANT
+        pdf_variant=PDF_VARIANT, font_config=fonts
     )
     _check_page_size(document.pages, page_size)
 
