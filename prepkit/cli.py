@@ -194,5 +194,18 @@ def _sayer(quiet: bool) -> Callable[[str], None]:
     return say
 
 
+def entry() -> None:
+    """Console-script entry point: run, flush, and leave without interpreter teardown.
+
+    Tearing down numba, weasyprint, matplotlib and pandas at exit takes about half a
+    second and does nothing useful here: every output has already been written,
+    synced to disk and renamed into place before :func:`main` returns.
+    """
+    code = main()
+    sys.stdout.flush()
+    sys.stderr.flush()
+    os._exit(code)
+
+
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    entry()
