@@ -52,6 +52,9 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--summary-only", action="store_true",
                    help="compute the metrics and write only the JSON summary")
     r.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
+    r.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                   help="run the uncertainty draws on the Dask cluster at ADDRESS "
+                        "(e.g. tcp://10.0.0.5:8786); needs prepkit[cluster]")
 
     w = sub.add_parser("watch", help="build the pack, then rebuild it on every save")
     w.add_argument("workbook", type=Path)
@@ -153,6 +156,7 @@ def _run(args: argparse.Namespace) -> int:
         draws=args.draws,
         summary_only=args.summary_only,
         quiet=args.quiet,
+        scheduler=args.scheduler,
     )
     report = run_workbook(args.workbook, options, say=_sayer(args.quiet))
     if not args.quiet:

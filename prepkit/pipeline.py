@@ -46,14 +46,14 @@ def _prefer_single_threaded_blas() -> None:
 _prefer_single_threaded_blas()
 
 # The imports below load numpy; they must follow the call above.
+import contextlib  # noqa: E402
 import dataclasses  # noqa: E402
 import datetime as dt  # noqa: E402
-import importlib  # noqa: E402
-import importlib.util  # noqa: E402
 import json  # noqa: E402
 import multiprocessing  # noqa: E402
 import re  # noqa: E402
-from collections.abc import Callable, Mapping, Sequence  # noqa: E402
+from collections.abc import Callable, Iterator, Mapping, Sequence  # noqa: E402
+from concurrent.futures import Executor  # noqa: E402
 from dataclasses import dataclass  # noqa: E402
 from importlib.resources import files  # noqa: E402
 from pathlib import Path  # noqa: E402
@@ -82,6 +82,11 @@ from prepkit.report.results_workbook import (  # noqa: E402
 )
 from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv  # noqa: E402
 from prepkit.summary import summary_dict  # noqa: E402
+from prepkit.uncertainty import (  # noqa: E402
+    UncertaintyResults,
+    run_uncertainty,
+    uncertainty_summary_dict,
+)
 from prepkit.workbook.reader import read_plan_with_warnings  # noqa: E402
 
 __all__ = [
@@ -186,6 +191,9 @@ class RunOptions:
         Compute the metrics and write only the JSON summary.
     quiet : bool
         Print nothing but errors.
+    scheduler : str or None
+        Address of a Dask scheduler (``tcp://host:8786``) to run the
+        uncertainty draws on; None runs them on this machine.
     """
 
     outdir: Path | None
@@ -193,6 +201,7 @@ class RunOptions:
     draws: int | None = None
     summary_only: bool = False
     quiet: bool = False
+    scheduler: str | None = None
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -242,29 +251,46 @@ class _Steps:
 # ---- The uncertainty ensemble (optional) ---------------------------------------------------------
 
 
-def _uncertainty_module() -> Any | None:
-    """:mod:`prepkit.uncertainty` when it is installed, else None."""
-    if importlib.util.find_spec("prepkit.uncertainty") is None:
-        return None
-    return importlib.import_module("prepkit.uncertainty")
-
-
-def _run_ensemble(plan: Plan, results: PlanResults, steps: _Steps) -> Any | None:
-    """Uncertainty results, or None when switched off or not available."""
+def _run_ensemble(
+    plan: Plan, results: PlanResults, steps: _Steps, scheduler: str | None = None
+) -> UncertaintyResults | None:
+    """Uncertainty results, or None when the plan asks for no draws."""
     if plan.details.draws <= 0:
         return None
-    module = _uncertainty_module()
-    if module is None or not hasattr(module, "run_uncertainty"):
-        return None
     steps(f"Running {plan.details.draws:,} plausible futures per scenario and variant")
-    return module.run_uncertainty(plan, results, progress=steps.interactive)
+    if scheduler is None:
+        return run_uncertainty(plan, results, progress=steps.interactive)
+    with _cluster_executor(scheduler) as executor:
+        return run_uncertainty(plan, results, progress=steps.interactive, executor=executor)
 
 
-def _ensemble_summary(plan: Plan, results: PlanResults, ensemble: Any) -> Any | None:
-    module = _uncertainty_module()
-    if ensemble is None or module is None or not hasattr(module, "uncertainty_summary_dict"):
-        return None
-    return module.uncertainty_summary_dict(ensemble)
+#: How long to wait for a Dask scheduler to answer [s].
+CLUSTER_TIMEOUT_SECONDS = 10
+
+
+@contextlib.contextmanager
+def _cluster_executor(address: str) -> Iterator[Executor]:
+    """A concurrent.futures executor on the Dask cluster at ``address``."""
+    try:
+        from dask.distributed import Client
+    except ImportError:
+        raise PipelineError(
+            "--scheduler", "the dask.distributed package (pip install 'prepkit[cluster]')",
+            "it is not installed",
+        ) from None
+    try:
+        client = Client(address, timeout=CLUSTER_TIMEOUT_SECONDS)
+    except (OSError, TimeoutError, ValueError) as exc:
+        raise PipelineError("--scheduler", "the address of a running Dask scheduler",
+                            f"{address!r} ({exc})") from None
+    try:
+        yield client.get_executor()
+    finally:
+        client.close()
+
+
+def _ensemble_summary(ensemble: UncertaintyResults | None) -> dict[str, Any] | None:
+    return None if ensemble is None else uncertainty_summary_dict(ensemble)
 
 
 # ---- Running independent jobs side by side -------------------------------------------------------
@@ -497,7 +523,7 @@ def render_pack(
         "daily-series.csv": daily,
         "daily-series-columns.csv": columns_csv(),
         "summary.json": _summary_bytes(
-            plan, results, _ensemble_summary(plan, results, ensemble), when
+            plan, results, _ensemble_summary(ensemble), when
         ),
     }
     if bands_csv is not None:
@@ -617,10 +643,10 @@ def _run(
         _check_outdir(outdir, workbook)
     steps(f"Running {len(plan.scenarios)} scenario(s), each with and without its measures")
     results = run_plan(plan)
-    ensemble = _run_ensemble(plan, results, steps)
+    ensemble = _run_ensemble(plan, results, steps, options.scheduler)
 
     if options.summary_only:
-        summary = _summary_bytes(plan, results, _ensemble_summary(plan, results, ensemble),
+        summary = _summary_bytes(plan, results, _ensemble_summary(ensemble),
                                  generated)
         _check_unchanged(workbook, digest)
         if options.summary_json is not None:

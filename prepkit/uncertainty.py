@@ -67,6 +67,7 @@ import os
 import sys
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
+from concurrent.futures import Executor, Future, as_completed
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -1258,6 +1259,7 @@ def run_uncertainty(
     seed: int | None = None,
     min_substeps: int | None = ENSEMBLE_MIN_SUBSTEPS,
     blocks: int = DEFAULT_BLOCKS,
+    executor: Executor | None = None,
 ) -> UncertaintyResults:
     """Run the uncertainty ensemble of every scenario of a plan, with and without interventions.
 
@@ -1284,6 +1286,12 @@ def run_uncertainty(
         Fewest RK4 steps per day; None uses the engine's rule.
     blocks : int
         Blocks per scenario variant (progress granularity).
+    executor : concurrent.futures.Executor, optional
+        Where to run the scenario variants: for large sweeps, a Dask cluster
+        (``dask.distributed.Client(address).get_executor()``) or any other
+        executor. Every variant uses the same Latin hypercube sample, so the
+        results are the same wherever they run. None runs them here, on
+        every core.
 
     Returns
     -------
@@ -1300,6 +1308,11 @@ def run_uncertainty(
         return UncertaintyResults(draws=0, seed=used_seed, quantiles=qs, dimensions=dims,
                                   scenarios=(), seconds=time.perf_counter() - started)
     sample = sample_quantiles(plan, count, used_seed)
+    if executor is not None:
+        return _run_uncertainty_elsewhere(
+            executor, plan, results, sample=sample, seed=used_seed, quantiles=qs, dims=dims,
+            min_substeps=min_substeps, blocks=blocks, progress=progress, started=started,
+        )
     cache = _ValueCache(sample)
     tick, close = _progress_ticker(progress, count * 2 * len(plan.scenarios))
     out = []
@@ -1324,6 +1337,52 @@ def run_uncertainty(
         close()
     return UncertaintyResults(
         draws=count, seed=used_seed, quantiles=qs, dimensions=dims, scenarios=tuple(out),
+        seconds=time.perf_counter() - started,
+    )
+
+
+def _run_uncertainty_elsewhere(
+    executor: Executor,
+    plan: Plan,
+    results: PlanResults | None,
+    *,
+    sample: NDArray[np.float64],
+    seed: int,
+    quantiles: tuple[float, ...],
+    dims: Any,
+    min_substeps: int | None,
+    blocks: int,
+    progress: Progress,
+    started: float,
+) -> UncertaintyResults:
+    """:func:`run_uncertainty` with one task per scenario variant on ``executor``."""
+    count = int(sample.shape[0])
+    futures: dict[tuple[str, bool], Future[EnsembleResult]] = {}
+    for scenario in plan.scenarios:
+        for flag in (True, False):
+            run = None
+            if results is not None:
+                run = results[scenario.name].variant("with" if flag else "without")
+            futures[scenario.name, flag] = executor.submit(
+                run_ensemble, plan, scenario, flag, sample=sample, seed=seed,
+                quantiles=quantiles, scenario_run=run, min_substeps=min_substeps, blocks=blocks,
+            )
+    tick, close = _progress_ticker(progress, count * len(futures))
+    try:
+        for _done in as_completed(futures.values()):
+            tick(count)
+        out = tuple(
+            ScenarioUncertainty(
+                scenario=scenario.name,
+                with_interventions=futures[scenario.name, True].result(),
+                without_interventions=futures[scenario.name, False].result(),
+            )
+            for scenario in plan.scenarios
+        )
+    finally:
+        close()
+    return UncertaintyResults(
+        draws=count, seed=seed, quantiles=quantiles, dimensions=dims, scenarios=out,
         seconds=time.perf_counter() - started,
     )
 
