@@ -54,7 +54,7 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
     r.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="run the uncertainty draws on the Dask cluster at ADDRESS "
-                        "(e.g. tcp://10.0.0.5:8786); needs prepkit[cluster]")
+                        "(e.g. tcp://scheduler-host:8786); needs prepkit[cluster]")
 
     w = sub.add_parser("watch", help="build the pack, then rebuild it on every save")
     w.add_argument("workbook", type=Path)
