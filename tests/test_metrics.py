@@ -1,4 +1,10 @@
-"""Planning metrics on hand-made daily series."""
+"""Planning metrics on hand-made daily series.
+
+Expected values are worked by hand from the definitions (days over capacity,
+unmet bed-days as the sum of daily shortfalls, available beds = staffed beds x
+(1 - baseline occupancy)): common practice, no source. Surge tiers follow Hick,
+Barbera & Kelen 2009, Disaster Med Public Health Prep 3:S59.
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,10 @@
-"""Invariants over random small plans (hypothesis)."""
+"""Invariants over random small plans (hypothesis).
+
+Population conservation (deaths included), no negative compartment and "a measure
+with no effect reproduces the baseline exactly" are properties every compartment
+model must have (common practice, no source; listed in the project's methods
+notes).
+"""
 
 from __future__ import annotations
 
