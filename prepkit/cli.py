@@ -206,8 +206,11 @@ def entry() -> None:
     synced to disk and renamed into place before :func:`main` returns.
     """
     code = main()
-    sys.stdout.flush()
-    sys.stderr.flush()
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (BrokenPipeError, OSError):  # e.g. output piped into `head`
+            pass
     os._exit(code)
 
 
