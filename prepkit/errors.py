@@ -95,3 +95,9 @@ class ModelError(ValueError, PrepkitError):
 
 class OutputError(OSError, PrepkitError):
     """An output could not be written."""
+
+    def __str__(self) -> str:
+        # Planners need the sentence and the path, not the operating system's error number.
+        if self.strerror and self.filename:
+            return f"{self.strerror}: {self.filename}"
+        return self.strerror or super().__str__()

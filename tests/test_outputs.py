@@ -512,3 +512,15 @@ def test_sigkill_during_a_single_file_write(tmp_path: Path) -> None:
     assert len(list(tmp_path.glob(".plan.xlsx.prepkit-tmp-*"))) == 1
     atomic_write_bytes(target, b"new")  # the next write removes the leftover
     assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.xlsx"]
+
+
+def test_output_error_message_has_no_error_number(tmp_path: Path) -> None:
+    # The planner sees the sentence and the path, not "[Errno 20]".
+    target = tmp_path / "a-file"
+    target.write_text("not a folder")
+    with pytest.raises(OutputError) as caught:
+        with AtomicOutputDir(target) as out:
+            out.write_text("x.txt", "x")
+    message = str(caught.value)
+    assert "Errno" not in message
+    assert message.endswith(str(target))
