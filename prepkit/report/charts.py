@@ -781,10 +781,8 @@ BAND_FILL = "#A6D2F0"
 
 
 def _ensemble_of(uncertainty: Any, name: str) -> Any | None:
-    for item in getattr(uncertainty, "scenarios", ()):
-        if item.scenario == name:
-            return item.with_interventions
-    return None
+    item = words.scenario_ensemble(uncertainty, name)
+    return None if item is None else item.with_interventions
 
 
 def _with_ensembles(
@@ -799,13 +797,7 @@ def _with_ensembles(
 
 
 def _q_columns(uncertainty: Any) -> tuple[str, str, str]:
-    low, high = min(uncertainty.quantiles), max(uncertainty.quantiles)
-
-    def label(q: float) -> str:
-        pct = 100.0 * q
-        return f"q{int(round(pct)):02d}" if abs(pct - round(pct)) < 1e-9 else f"q{pct:g}"
-
-    return label(low), "q50", label(high)
+    return words.band_columns(uncertainty.quantiles)
 
 
 def band_chart(

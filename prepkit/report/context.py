@@ -33,6 +33,7 @@ import pandas as pd
 from prepkit.engine import PlanResults, ScenarioResults, ScenarioRun, column_slug
 from prepkit.metrics import BedMetrics, ScenarioMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
+from prepkit.uncertainty import quantile_label
 from prepkit.workbook import schema
 
 __all__ = [
@@ -1949,21 +1950,17 @@ def _quantile_text(row: Any, q_low: str, q_mid: str, q_high: str, fmt: Any = Non
     return f"{show(float(row[q_low]))} to {show(float(row[q_high]))} ({show(float(row[q_mid]))})"
 
 
-def _ensemble_for(uncertainty: Any, name: str) -> Any | None:
+def scenario_ensemble(uncertainty: Any, name: str) -> Any | None:
+    """The ensemble of scenario ``name`` (a ScenarioUncertainty), or None when it has none."""
     for item in getattr(uncertainty, "scenarios", ()):
         if item.scenario == name:
             return item
     return None
 
 
-def _labels(quantiles: Sequence[float]) -> tuple[str, str, str]:
-    low, high = min(quantiles), max(quantiles)
-
-    def label(q: float) -> str:
-        pct = 100.0 * q
-        return f"q{int(round(pct)):02d}" if abs(pct - round(pct)) < 1e-9 else f"q{pct:g}"
-
-    return label(low), "q50", label(high)
+def band_columns(quantiles: Sequence[float]) -> tuple[str, str, str]:
+    """Suffixes of the lower band, median and upper band columns, e.g. ``("q05", "q50", "q95")``."""
+    return quantile_label(min(quantiles)), quantile_label(0.5), quantile_label(max(quantiles))
 
 
 def _exceedance_sentence(view: ScenarioView, result: Any) -> str:
@@ -2009,7 +2006,7 @@ def ensemble_context(
     """
     if uncertainty is None or not getattr(uncertainty, "scenarios", ()):
         return None
-    q_low, q_mid, q_high = _labels(uncertainty.quantiles)
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
     range_words = f"{round(10 * share)} of 10"
     draws = int(uncertainty.draws)
@@ -2020,7 +2017,7 @@ def ensemble_context(
         "from the workbook's Low to High ranges."
     ]
     if focus is not None:
-        result = _ensemble_for(uncertainty, focus.name)
+        result = scenario_ensemble(uncertainty, focus.name)
         if result is not None:
             sentences.append(_exceedance_sentence(focus, result.with_interventions))
             peak = result.with_interventions.summary.loc["peak_icu_demand_beds"]
@@ -2031,7 +2028,7 @@ def ensemble_context(
     chances = []
     rows = []
     for view in views:
-        result = _ensemble_for(uncertainty, view.name)
+        result = scenario_ensemble(uncertainty, view.name)
         if result is None:
             continue
         e = result.with_interventions
@@ -2067,7 +2064,7 @@ def ensemble_context(
         )
     drivers = ""
     if focus is not None:
-        result = _ensemble_for(uncertainty, focus.name)
+        result = scenario_ensemble(uncertainty, focus.name)
         if result is not None:
             drivers = drivers_sentence(focus.name, result.with_interventions.tornado_peak_icu)
     intro = (
@@ -2184,7 +2181,7 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     str
         For each scenario, the range of the ward and ICU peaks.
     """
-    q_low, q_mid, q_high = _labels(uncertainty.quantiles)
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     low, high = round(100 * min(uncertainty.quantiles)), round(100 * max(uncertainty.quantiles))
     parts = [
         f"Ward and ICU demand with measures: the middle line is the median of "
@@ -2192,7 +2189,7 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
         f"{high}th percentile."
     ]
     for view in views:
-        result = _ensemble_for(uncertainty, view.name)
+        result = scenario_ensemble(uncertainty, view.name)
         if result is None:
             continue
         s = result.with_interventions.summary
@@ -2222,7 +2219,7 @@ def exceedance_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     """
     parts = ["Share of plausible futures in which demand is above the available beds, each day."]
     for view in views:
-        result = _ensemble_for(uncertainty, view.name)
+        result = scenario_ensemble(uncertainty, view.name)
         if result is None:
             continue
         e = result.with_interventions.exceedance
@@ -2252,10 +2249,10 @@ def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     str
         For each scenario, the range and median of the ICU peak date.
     """
-    q_low, q_mid, q_high = _labels(uncertainty.quantiles)
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     parts = ["When ICU demand peaks across the plausible futures, with measures, by week."]
     for view in views:
-        result = _ensemble_for(uncertainty, view.name)
+        result = scenario_ensemble(uncertainty, view.name)
         if result is None:
             continue
         row = result.with_interventions.peak_dates.loc["icu_demand"]
