@@ -393,7 +393,10 @@ def _standalone_css() -> str:
 
 
 def _summary_bytes(
-    plan: Plan, results: PlanResults, ensemble_summary: Any | None, generated: dt.datetime
+    plan: Plan,
+    results: PlanResults,
+    ensemble_summary: dict[str, Any] | None,
+    generated: dt.datetime,
 ) -> bytes:
     payload = summary_dict(plan, results)
     payload["run"] = {
@@ -441,7 +444,7 @@ def render_pack(
     plan: Plan,
     results: PlanResults,
     *,
-    ensemble: Any | None = None,
+    ensemble: UncertaintyResults | None = None,
     generated: dt.datetime | None = None,
     extra_files: Sequence[tuple[str, str]] = (),
     notes: Sequence[str] = (),
