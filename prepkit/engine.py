@@ -400,7 +400,7 @@ def build_run(
         "symptomatic_onsets_per_day": flow(BLK_CUM_ONSET),
         "admissions_per_day": flow(BLK_CUM_ADM),
         "icu_admissions_per_day": flow(BLK_CUM_ICU),
-        "deaths_per_day": flow(BLK_D),
+        "hospital_deaths_per_day": flow(BLK_D),
         "doses_per_day": flow(BLK_CUM_DOSE),
     }
     stocks = {
@@ -418,7 +418,7 @@ def build_run(
         "cumulative_symptomatic_persons": band(BLK_CUM_ONSET)[1:],
         "cumulative_admissions_persons": band(BLK_CUM_ADM)[1:],
         "cumulative_icu_admissions_persons": band(BLK_CUM_ICU)[1:],
-        "cumulative_deaths_persons": band(BLK_D)[1:],
+        "cumulative_hospital_deaths_persons": band(BLK_D)[1:],
         "cumulative_doses": band(BLK_CUM_DOSE)[1:],
     }
     columns: dict[str, Any] = {key: value.sum(axis=1) for key, value in flows.items()}
@@ -451,7 +451,7 @@ def build_run(
         "symptomatic_cases_persons": final[layout.stage(BLK_CUM_ONSET)],
         "admissions_persons": final[layout.stage(BLK_CUM_ADM)],
         "icu_admissions_persons": final[layout.stage(BLK_CUM_ICU)],
-        "deaths_persons": final[layout.stage(BLK_D)],
+        "hospital_deaths_persons": final[layout.stage(BLK_D)],
         "doses_given_doses": final[layout.stage(BLK_CUM_DOSE)],
         "ward_bed_days": final[layout.stage(BLK_WARD_DAYS)],
         "icu_bed_days": final[layout.stage(BLK_ICU_DAYS)],

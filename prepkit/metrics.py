@@ -52,7 +52,7 @@ class BurdenTotals:
     symptomatic_cases_persons: float
     admissions_persons: float
     icu_admissions_persons: float
-    deaths_persons: float
+    hospital_deaths_persons: float
     doses_given_doses: float
     ward_bed_days: float
     icu_bed_days: float
@@ -116,7 +116,7 @@ class InterventionEffect:
     averted_symptomatic_cases_persons: float
     averted_admissions_persons: float
     averted_icu_admissions_persons: float
-    averted_deaths_persons: float
+    averted_hospital_deaths_persons: float
     averted_ward_unmet_bed_days: float
     averted_icu_unmet_bed_days: float
     averted_ward_unmet_bed_days_with_surge: float
@@ -529,7 +529,7 @@ def intervention_effect(with_: ScenarioMetrics, without: ScenarioMetrics) -> Int
         - a.symptomatic_cases_persons,
         averted_admissions_persons=b.admissions_persons - a.admissions_persons,
         averted_icu_admissions_persons=b.icu_admissions_persons - a.icu_admissions_persons,
-        averted_deaths_persons=b.deaths_persons - a.deaths_persons,
+        averted_hospital_deaths_persons=b.hospital_deaths_persons - a.hospital_deaths_persons,
         averted_ward_unmet_bed_days=without.ward.unmet_bed_days - with_.ward.unmet_bed_days,
         averted_icu_unmet_bed_days=without.icu.unmet_bed_days - with_.icu.unmet_bed_days,
         averted_ward_unmet_bed_days_with_surge=without.ward.unmet_bed_days_with_surge

@@ -18,7 +18,7 @@ import numpy as np
 from prepkit.engine import PlanResults, ScenarioRun
 from prepkit.plan import Plan
 
-SUMMARY_VERSION = 1
+SUMMARY_VERSION = 2  # 2: deaths keys say "hospital_deaths"
 """Bumped when keys are renamed or removed."""
 
 

@@ -125,7 +125,7 @@ PERT_LAMBDA = 4.0
 DEFAULT_QUANTILES: tuple[float, ...] = (0.05, 0.5, 0.95)
 """Quantiles reported by default (the median is always added)."""
 
-UNCERTAINTY_SUMMARY_VERSION = 1
+UNCERTAINTY_SUMMARY_VERSION = 2  # 2: deaths keys say "hospital_deaths"
 """Bumped when keys of :func:`uncertainty_summary_dict` are renamed or removed."""
 
 SUMMARY_METRICS: tuple[str, ...] = (
@@ -149,7 +149,7 @@ SUMMARY_METRICS: tuple[str, ...] = (
     "symptomatic_cases_persons",
     "admissions_persons",
     "icu_admissions_persons",
-    "deaths_persons",
+    "hospital_deaths_persons",
     "ward_bed_days",
     "icu_bed_days",
 )
@@ -899,7 +899,7 @@ def _run_values(run: ScenarioRun) -> dict[str, float]:
         "symptomatic_cases_persons": total.symptomatic_cases_persons,
         "admissions_persons": total.admissions_persons,
         "icu_admissions_persons": total.icu_admissions_persons,
-        "deaths_persons": total.deaths_persons,
+        "hospital_deaths_persons": total.hospital_deaths_persons,
         "ward_bed_days": total.ward_bed_days,
         "icu_bed_days": total.icu_bed_days,
     }

@@ -41,8 +41,8 @@ def test_every_scenario_runs_with_and_without(plan_results) -> None:  # type: ig
             assert_allclose(run.daily["admissions_per_day"].sum(), total.admissions_persons,
                             rtol=1e-9)
             assert_allclose(
-                run.daily_by_band.groupby("band")["deaths_per_day"].sum().sum(),
-                total.deaths_persons, rtol=1e-9,
+                run.daily_by_band.groupby("band")["hospital_deaths_per_day"].sum().sum(),
+                total.hospital_deaths_persons, rtol=1e-9,
             )
         assert item.without_interventions.variant == "without"
         assert not any(c.startswith("active_") for c in item.without_interventions.daily)
@@ -52,7 +52,7 @@ def test_every_scenario_runs_with_and_without(plan_results) -> None:  # type: ig
             item.without_interventions.metrics.total.admissions_persons
             - item.with_interventions.metrics.total.admissions_persons,
         )
-    assert results["no measures"].effect.averted_deaths_persons == 0.0
+    assert results["no measures"].effect.averted_hospital_deaths_persons == 0.0
     assert results["all measures"].effect.ward_peak_reduction_beds > 0.0
 
 

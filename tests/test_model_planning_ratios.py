@@ -39,4 +39,4 @@ def test_hhs_severe_ratios(stages: tuple[int, int, int]) -> None:
     assert_allclose(total.admissions_persons / ill, HOSPITALISED_PER_ILL, rtol=1e-6)
     assert_allclose(total.icu_admissions_persons / total.admissions_persons,
                     ICU_PER_HOSPITALISED, rtol=1e-6)
-    assert_allclose(total.deaths_persons / ill, DEATHS_PER_ILL, rtol=1e-6)
+    assert_allclose(total.hospital_deaths_persons / ill, DEATHS_PER_ILL, rtol=1e-6)

@@ -82,7 +82,7 @@ def test_summary_numbers_are_the_engine_metrics(built: Any) -> None:
     header = [c.value for c in ws[1]]
     col = header.index("Ward peak demand [beds]") + 1
     date_col = header.index("Ward peak date") + 1
-    deaths = header.index("Deaths [persons]") + 1
+    deaths = header.index("Deaths among hospital patients [persons]") + 1
     row = 2
     for item in results:
         for run in (item.with_interventions, item.without_interventions):
@@ -91,7 +91,8 @@ def test_summary_numbers_are_the_engine_metrics(built: Any) -> None:
             peak = ws.cell(row, date_col).value
             expected = run.metrics.ward.peak_date
             assert (peak.date() if peak is not None else None) == expected
-            assert ws.cell(row, deaths).value == pytest.approx(run.metrics.total.deaths_persons)
+            assert ws.cell(row, deaths).value == pytest.approx(
+                run.metrics.total.hospital_deaths_persons)
             row += 1
 
 

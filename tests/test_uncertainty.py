@@ -264,7 +264,8 @@ def test_point_ranges_reproduce_the_single_run_exactly():
         assert np.ptp(table["peak_icu_census_persons"]) == 0.0
         assert_allclose(table["peak_icu_census_persons"], run.metrics.icu.peak_census_persons,
                         rtol=1e-12)
-        assert_allclose(table["deaths_persons"], run.metrics.total.deaths_persons, rtol=1e-12)
+        assert_allclose(table["hospital_deaths_persons"],
+                        run.metrics.total.hospital_deaths_persons, rtol=1e-12)
         assert_allclose(table["icu_unmet_bed_days_with_surge"],
                         run.metrics.icu.unmet_bed_days_with_surge, rtol=1e-12)
         assert (table["ward_days_over_capacity_days"]
@@ -357,8 +358,8 @@ def test_run_uncertainty_covers_every_scenario_and_serialises(uncertain_plan):
     assert ticks[-1] == (16 * 2 * len(plan.scenarios),) * 2
     first = got[plan.scenarios[0].name]
     assert first.variant("without").variant == "without"
-    assert_allclose(first.with_interventions.summary.loc["deaths_persons", "scenario_run"],
-                    results.scenarios[0].with_interventions.metrics.total.deaths_persons)
+    assert_allclose(first.with_interventions.summary.loc["hospital_deaths_persons", "scenario_run"],
+                    results.scenarios[0].with_interventions.metrics.total.hospital_deaths_persons)
     summary = uncertainty_summary_dict(got)
     text = json.dumps(summary, allow_nan=False)
     assert "NaN" not in text

@@ -121,7 +121,7 @@ FINAL_NAMES: tuple[str, ...] = (
     "symptomatic_cases_persons",
     "admissions_persons",
     "icu_admissions_persons",
-    "deaths_persons",
+    "hospital_deaths_persons",
     "doses_given_doses",
     "ward_bed_days",
     "icu_bed_days",

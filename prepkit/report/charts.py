@@ -673,7 +673,7 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
     measures = (
         ("Hospital admissions", "admissions_persons"),
         ("ICU admissions", "icu_admissions_persons"),
-        ("Deaths", "deaths_persons"),
+        ("Deaths among\nhospital patients", "hospital_deaths_persons"),
     )
     names = [_wrap(v.name, 20) for v in views]
 
@@ -713,8 +713,8 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
         name="total-outcomes",
         title="Totals over the period",
         caption=(
-            "Hospital admissions, ICU admissions and deaths over the whole period, by scenario, "
-            "with and without measures."
+            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
+            "whole period, by scenario, with and without measures."
         ),
         alt=words.outcomes_alt(views),
         svg=svg,

@@ -499,11 +499,11 @@ def measures_sentence(item: ScenarioResults) -> str:
         )
     change = _peak_change(effect.ward_peak_reduction_share, effect.ward_peak_delay_days)
     admissions = effect.averted_admissions_persons
-    deaths = effect.averted_deaths_persons
+    deaths = effect.averted_hospital_deaths_persons
     if admissions >= 0.5:
         averted = (
             f"They avert {count_phrase(admissions, 'admission', 'admissions')} and "
-            f"{count_phrase(max(deaths, 0.0), 'death', 'deaths')}."
+            f"{count_phrase(max(deaths, 0.0), 'death', 'deaths')} among hospital patients."
         )
     elif admissions <= -0.5:
         averted = (
@@ -1017,8 +1017,8 @@ def comparison_tables(
                      cells=cells(lambda m: format_number(m.total.admissions_persons))),
             TableRow(label="ICU admissions [persons]",
                      cells=cells(lambda m: format_number(m.total.icu_admissions_persons))),
-            TableRow(label="Deaths [persons]",
-                     cells=cells(lambda m: format_number(m.total.deaths_persons))),
+            TableRow(label="Deaths among hospital patients [persons]",
+                     cells=cells(lambda m: format_number(m.total.hospital_deaths_persons))),
             TableRow(label="Residents infected [%]",
                      cells=cells(lambda m: format_percent(m.infection_attack_share))),
             TableRow(label="Peak workforce absence [%]",
@@ -1758,15 +1758,18 @@ def outcomes_alt(views: Sequence[ScenarioView]) -> str:
         Admissions, ICU admissions and deaths by scenario, with and without
         measures.
     """
-    parts = ["Bar chart of total admissions, ICU admissions and deaths by scenario."]
+    parts = [
+        "Bar chart of total admissions, ICU admissions and deaths among hospital patients "
+        "by scenario."
+    ]
     for view in views:
         m, w = view.with_metrics.total, view.without_metrics.total
         parts.append(
             f"{view.name}: {format_number(m.admissions_persons)} admissions, "
             f"{format_number(m.icu_admissions_persons)} ICU admissions and "
-            f"{format_number(m.deaths_persons)} deaths with measures; "
+            f"{format_number(m.hospital_deaths_persons)} deaths with measures; "
             f"{format_number(w.admissions_persons)}, {format_number(w.icu_admissions_persons)} "
-            f"and {format_number(w.deaths_persons)} without."
+            f"and {format_number(w.hospital_deaths_persons)} without."
         )
     return " ".join(parts)
 

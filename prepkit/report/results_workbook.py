@@ -96,7 +96,8 @@ SUMMARY_COLUMNS: tuple[tuple[str, MetricGetter, str], ...] = (
     ("Symptomatic cases [persons]", lambda m: m.total.symptomatic_cases_persons, "#,##0"),
     ("Admissions [persons]", lambda m: m.total.admissions_persons, "#,##0"),
     ("ICU admissions [persons]", lambda m: m.total.icu_admissions_persons, "#,##0"),
-    ("Deaths [persons]", lambda m: m.total.deaths_persons, "#,##0"),
+    ("Deaths among hospital patients [persons]",
+     lambda m: m.total.hospital_deaths_persons, "#,##0"),
     ("Vaccine doses [doses]", lambda m: m.total.doses_given_doses, "#,##0"),
     ("Residents infected [fraction]", lambda m: m.infection_attack_share, "0.0%"),
     ("Peak workforce absence [fraction]", lambda m: m.peak_absence_share, "0.0%"),
@@ -113,7 +114,8 @@ _EFFECT_COLUMNS: tuple[tuple[str, str, str], ...] = (
     ("Infections averted [persons]", "averted_infections_persons", "#,##0"),
     ("Admissions averted [persons]", "averted_admissions_persons", "#,##0"),
     ("ICU admissions averted [persons]", "averted_icu_admissions_persons", "#,##0"),
-    ("Deaths averted [persons]", "averted_deaths_persons", "#,##0"),
+    ("Deaths among hospital patients averted [persons]",
+     "averted_hospital_deaths_persons", "#,##0"),
     ("Unmet ward bed-days averted [bed-days]", "averted_ward_unmet_bed_days", "#,##0"),
     ("Unmet ICU bed-days averted [bed-days]", "averted_icu_unmet_bed_days", "#,##0"),
 )
@@ -238,7 +240,7 @@ _DAILY_HEADER_ROW = 3
 XLSX_DAILY_COLUMNS: tuple[str, ...] = (
     "admissions_per_day",
     "icu_admissions_per_day",
-    "deaths_per_day",
+    "hospital_deaths_per_day",
     "ward_demand_beds",
     "ward_available_beds",
     "ward_available_with_surge_beds",
@@ -248,7 +250,7 @@ XLSX_DAILY_COLUMNS: tuple[str, ...] = (
     "icu_available_with_surge_beds",
     "icu_unmet_beds",
     "cumulative_admissions_persons",
-    "cumulative_deaths_persons",
+    "cumulative_hospital_deaths_persons",
     "absent_workers_persons",
     "absence_share",
 )
