@@ -61,18 +61,70 @@ def test_format_period_prints_the_year_once() -> None:
 @pytest.mark.parametrize(
     ("value", "expected"),
     [
-        (302.4, "302"), (1750.2, "1,750"), (6.76, "6.8"), (9.96, "10"), (1.2, "1.2"),
-        (3.0, "3"), (0.04, "0"), (0.0, "0"), (-3.25, "-3.2"), (float("nan"), "n/a"),
+        (302.4, "302"), (1750.2, "1,750"), (6.76, "7"), (9.96, "10"), (1.2, "1"),
+        (3.0, "3"), (0.04, "<1"), (0.0, "0"), (-3.25, "-3"), (float("nan"), "n/a"),
         (None, "n/a"),
     ],
 )
-def test_format_number(value: float | None, expected: str) -> None:
+def test_format_number_gives_whole_beds_and_people(
+    value: float | None, expected: str
+) -> None:
     assert words.format_number(value) == expected
+
+
+def test_a_fraction_of_a_bed_is_not_shown_as_none() -> None:
+    assert words.format_number(0.3, words=True) == "under 1"
+    assert words.beds_phrase(0.3) == "less than one bed"
+    assert words.beds_phrase(1.2) == "1 bed"
+    assert words.beds_phrase(33.4) == "33 beds"
+
+
+@pytest.mark.parametrize(
+    ("peak", "available", "largest", "expected"),
+    [
+        # Largest shortfall on the peak day against fixed beds: the printed figures subtract.
+        (68.6, 17.6, 51.0, 51),   # "69 beds, 51 more than the 18 available"
+        (69.4, 17.6, 51.8, 51),   # 69 - 18, not round(51.8) = 52
+        (18.4, 17.6, 0.8, 0),     # rounds to "18 against 18": less than one bed
+        (0.0, 10.0, 0.0, 0),
+        # Shortfall on another day (available beds changed): the shortfall itself, rounded.
+        (120.0, 90.0, 40.4, 40),
+    ],
+)
+def test_shortfall_adds_up_as_printed(
+    peak: float, available: float, largest: float, expected: int
+) -> None:
+    assert words.shortfall_beds(peak, available, largest) == expected
+
+
+def test_bed_sentence_adds_up() -> None:
+    import datetime as dt
+
+    from prepkit.metrics import BedMetrics
+
+    fields = {f: 0.0 for f in BedMetrics.__dataclass_fields__}
+    fields.update(
+        available_beds=17.6, peak_demand_beds=69.4, largest_shortfall_beds=51.8,
+        peak_date=dt.date(2027, 3, 2), days_over_capacity_days=52,
+        first_over_capacity_date=dt.date(2027, 2, 7),
+    )
+    bed = BedMetrics(**fields)  # type: ignore[arg-type]
+    text = words.bed_sentence(
+        "icu", bed, (words.Period(dt.date(2027, 2, 7), dt.date(2027, 3, 30)),)
+    )
+    assert "peaking at 69 beds on 2 Mar 2027, 51 more than the 18 available" in text
+    assert "." not in text.replace("2027.", "").split("peaking")[1].rstrip(".")
+
+
+def test_every_one_says_both_for_two() -> None:
+    assert words.every_one(1, "scenario", "scenarios") == "the scenario"
+    assert words.every_one(2, "scenario", "scenarios") == "both scenarios"
+    assert words.every_one(4, "scenario", "scenarios") == "all 4 scenarios"
 
 
 @pytest.mark.parametrize(
     ("value", "expected"),
-    [(1750.0, "1,800"), (3097.0, "3,100"), (150_123.0, "150,000"), (302.0, "302"), (6.8, "6.8")],
+    [(1750.0, "1,800"), (3097.0, "3,100"), (150_123.0, "150,000"), (302.0, "302"), (6.8, "7")],
 )
 def test_format_about_rounds_large_counts_to_two_figures(value: float, expected: str) -> None:
     assert words.format_about(value) == expected
@@ -138,7 +190,7 @@ def test_bed_sentence_over_capacity_says_when_how_long_and_by_how_much() -> None
     text = words.bed_sentence("ward", bed(), periods, last_day=D(2027, 10, 30))
     assert text == (
         "Ward demand exceeds the 90 available ward beds from 10 Feb to 24 Mar 2027 (43 days), "
-        "peaking at 302 beds on 27 Feb 2027, 212 more than are available."
+        "peaking at 302 beds on 27 Feb 2027, 212 more than the 90 available."
     )
 
 
@@ -154,7 +206,7 @@ def test_bed_sentence_with_several_periods_and_to_the_end() -> None:
 def test_bed_sentence_within_capacity_and_without_demand() -> None:
     within = words.bed_sentence("icu", bed(peak_demand_beds=3.7, days_over_capacity_days=0), ())
     assert within == (
-        "ICU demand stays within the 90 available ICU beds, peaking at 3.7 on 27 Feb 2027."
+        "ICU demand stays within the 90 available ICU beds, peaking at 4 on 27 Feb 2027."
     )
     none = words.bed_sentence("ward", bed(peak_demand_beds=0.0, peak_date=None), ())
     assert none == "Ward demand from the outbreak stays at zero."
@@ -270,7 +322,7 @@ def test_drivers_sentence_names_the_largest_swings() -> None:
 def test_measure_when_wording() -> None:
     assert words.measure_when(Start(kind="date", date=D(2027, 2, 13)),
                               End(kind="date", date=D(2027, 5, 31))) == \
-        "From 13 Feb 2027; until 31 May 2027"
+        "From 13 Feb 2027; last day 31 May 2027"
     assert words.measure_when(Start(kind="ward_occupancy", level=0.6),
                               End(kind="duration", duration_days=56)) == \
         "When ward demand reaches 60% of the available ward beds; for 56 days"

@@ -351,7 +351,9 @@ def compile_model(
         row[IT_START_LEVEL] = item.start.level if item.start.level is not None else np.inf
         row[IT_END_KIND] = END_CODES[item.end.kind]
         if item.end.date is not None:
-            row[IT_END_DAY] = plan.day_of(item.end.date)
+            # The end date is the last day in force: the measure stops at the
+            # midnight that follows it.
+            row[IT_END_DAY] = plan.day_of(item.end.date) + 1
         row[IT_DURATION] = item.end.duration_days or 0.0
         row[IT_RELEASE_LEVEL] = item.end.level if item.end.level is not None else -np.inf
         row[IT_MULTIPLIER : IT_MULTIPLIER + N_SETTINGS] = 1.0

@@ -25,7 +25,7 @@ import datetime as dt
 import math
 import re
 from collections.abc import Iterable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Literal
 
 import pandas as pd
@@ -33,15 +33,18 @@ import pandas as pd
 from prepkit.engine import PlanResults, ScenarioResults, ScenarioRun, column_slug
 from prepkit.metrics import BedMetrics, ScenarioMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
+from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.uncertainty import quantile_label
 from prepkit.workbook import schema
 
 __all__ = [
     "BED_NOUNS",
     "CAUTION_LINE",
+    "DEATHS_NOTE",
     "DECISIONS_LINE",
     "GRID_MAX_COLUMNS",
     "GRID_MIN_FILL",
+    "HEADLINE_POLICY",
     "LEVEL_WORDS",
     "SMALL_POPULATION",
     "AssumptionGrid",
@@ -62,6 +65,8 @@ __all__ = [
     "as_date",
     "bands_alt",
     "bed_sentence",
+    "bed_shortfall",
+    "beds_phrase",
     "bottom_line",
     "build_context",
     "certainty_sentences",
@@ -72,6 +77,10 @@ __all__ = [
     "demand_alt",
     "drivers_sentence",
     "ensemble_context",
+    "observed_flag",
+    "observed_sentence",
+    "with_observations",
+    "every_one",
     "exceedance_alt",
     "format_about",
     "format_date",
@@ -98,6 +107,7 @@ __all__ = [
     "quoted",
     "scenario_brief",
     "scenario_views",
+    "shortfall_beds",
     "shown_value",
     "surge_sentence",
     "tornado_alt",
@@ -120,6 +130,11 @@ LEVEL_WORDS: dict[str, str] = {"low": "Low", "central": "Central", "high": "High
 CAUTION_LINE = (
     "A planning aid, not a forecast: these figures show what follows from the assumptions in "
     "the planning workbook. Real outbreaks will differ."
+)
+#: What the death figures count, said on the leader page.
+DEATHS_NOTE = (
+    "Deaths here are deaths among hospital patients, counted as if every patient who needs a "
+    "bed gets one: running short of beds does not change them in these figures."
 )
 DECISIONS_LINE = (
     "Decisions rest with the local health authority and with licensed clinical practice."
@@ -172,11 +187,13 @@ def format_period(start: dt.date, end: dt.date) -> str:
     return f"{format_date(start)} to {format_date(end)}"
 
 
-def format_number(value: float | None, *, missing: str = "n/a") -> str:
-    """A count of beds or people as printed in tables.
+def format_number(value: float | None, *, missing: str = "n/a", words: bool = False) -> str:
+    """A count of beds, people or bed-days as printed: a whole number.
 
-    Whole numbers with thousands separators from 10 up (``1,750``), one
-    decimal below 10 (``6.8``), ``0`` for anything under 0.05.
+    Beds and people are whole in every table and sentence of the pack
+    (``1,750``, ``7``); decimals appear only in the methods appendix. A
+    positive value that rounds to zero is ``<1`` (``under 1`` in sentences),
+    so an average of a fraction of a bed is not shown as none.
 
     Parameters
     ----------
@@ -184,6 +201,8 @@ def format_number(value: float | None, *, missing: str = "n/a") -> str:
         The number [beds, persons or bed-days].
     missing : str, optional
         Text for None, NaN or infinity.
+    words : bool, optional
+        For a sentence: ``under 1`` instead of ``<1``.
 
     Returns
     -------
@@ -192,12 +211,42 @@ def format_number(value: float | None, *, missing: str = "n/a") -> str:
     """
     if value is None or not math.isfinite(value):
         return missing
-    size = abs(value)
-    if size < 0.05:
-        return "0"
-    if size >= 9.95 or float(value).is_integer():
-        return f"{round(value):,}"
-    return f"{value:.1f}"
+    whole = round(value)
+    if whole == 0:
+        if abs(value) < 1e-9:
+            return "0"
+        return "under 1" if words else "<1"
+    return f"{whole:,}"
+
+
+def shortfall_beds(peak_beds: float, available_beds: float, largest_shortfall_beds: float) -> int:
+    """The largest shortfall in whole beds, consistent with the rounded peak and beds.
+
+    When the largest shortfall falls on the day of the peak against a fixed
+    number of available beds (the usual case), it is the rounded peak minus
+    the rounded available beds, so that "peaking at 69 beds, 51 more than
+    the 18 available" adds up as printed; otherwise the rounded shortfall.
+
+    Parameters
+    ----------
+    peak_beds : float
+        Peak demand [beds].
+    available_beds : float
+        Available beds on the day of the peak [beds].
+    largest_shortfall_beds : float
+        Largest daily demand above the available beds [beds].
+
+    Returns
+    -------
+    int
+        Whole beds short (0 when demand never exceeds the beds).
+    """
+    if largest_shortfall_beds <= 0.0:
+        return 0
+    gap = peak_beds - available_beds
+    if abs(largest_shortfall_beds - gap) <= 1e-6 * max(1.0, peak_beds):
+        return max(round(peak_beds) - round(available_beds), 0)
+    return round(largest_shortfall_beds)
 
 
 def format_about(value: float) -> str:
@@ -274,6 +323,23 @@ def format_percent(share: float | None, *, missing: str = "n/a") -> str:
     if abs(pct) < 0.05:
         return "<0.1%"
     return f"{pct:.1f}%"
+
+
+def beds_phrase(value: float) -> str:
+    """Whole beds with their noun: ``1 bed``, ``33 beds``, ``less than one bed``."""
+    whole = round(value)
+    if whole == 0:
+        return "no beds" if abs(value) < 1e-9 else "less than one bed"
+    return "1 bed" if whole == 1 else f"{whole:,} beds"
+
+
+def every_one(count: int, singular: str, plural: str) -> str:
+    """All of a group in words: ``the scenario``, ``both scenarios``, ``all 4 scenarios``."""
+    if count == 1:
+        return f"the {singular}"
+    if count == 2:
+        return f"both {plural}"
+    return f"all {count:,} {plural}"
 
 
 def quoted(name: str) -> str:
@@ -397,22 +463,30 @@ def bed_sentence(
         2027, 212 more than are available."
     """
     title, noun = BED_NOUNS[kind]
-    available = format_number(bed.available_beds)
+    available = format_number(bed.available_beds, words=True)
     if bed.peak_date is None:
         return f"{title} demand from the outbreak stays at zero."
-    peak = format_number(bed.peak_demand_beds)
+    peak = format_number(bed.peak_demand_beds, words=True)
     when = format_date(bed.peak_date)
     if bed.days_over_capacity_days == 0 or not periods:
         return (
             f"{title} demand stays within the {available} available {noun} beds, "
             f"peaking at {peak} on {when}."
         )
-    short = format_number(bed.largest_shortfall_beds)
+    short = bed_shortfall(bed)
+    beyond = (
+        f"{short:,} more than the {available} available" if short >= 1
+        else f"just above the {available} available"
+    )
     return (
         f"{title} demand exceeds the {available} available {noun} beds "
-        f"{_when_over(periods, last_day)}, peaking at {peak} beds on {when}, "
-        f"{short} more than are available."
+        f"{_when_over(periods, last_day)}, peaking at {peak} beds on {when}, {beyond}."
     )
+
+
+def bed_shortfall(bed: BedMetrics) -> int:
+    """:func:`shortfall_beds` of one bed type's metrics [beds]."""
+    return shortfall_beds(bed.peak_demand_beds, bed.available_beds, bed.largest_shortfall_beds)
 
 
 def surge_sentence(kind: BedKind, bed: BedMetrics) -> str:
@@ -441,16 +515,16 @@ def surge_sentence(kind: BedKind, bed: BedMetrics) -> str:
     with_days = bed.days_over_capacity_with_surge_days
     if with_days == 0:
         return f"Opening the {beds} surge {noun} beds (ready from {ready}) would close the gap."
-    still = format_number(bed.largest_shortfall_with_surge_beds)
+    still = beds_phrase(bed.largest_shortfall_with_surge_beds)
     if with_days < bed.days_over_capacity_days:
         return (
             f"Opening the {beds} surge {noun} beds (ready from {ready}) would cut this to "
-            f"{format_days(with_days)}, with up to {still} beds still short."
+            f"{format_days(with_days)}, with up to {still} still short."
         )
     if bed.largest_shortfall_with_surge_beds < bed.largest_shortfall_beds - 0.05:
         return (
             f"The {beds} surge {noun} beds (ready from {ready}) would not shorten this, though "
-            f"they cut the largest shortfall to {still} beds."
+            f"they cut the largest shortfall to {still}."
         )
     return f"The {beds} surge {noun} beds (ready from {ready}) would come too late to help."
 
@@ -494,7 +568,7 @@ def measures_sentence(item: ScenarioResults) -> str:
     else:
         first = (
             f"Without its measures, ward demand would peak at "
-            f"{format_number(without.ward.peak_demand_beds)} beds on "
+            f"{format_number(without.ward.peak_demand_beds, words=True)} beds on "
             f"{format_date(without.ward.peak_date)}."
         )
     change = _peak_change(effect.ward_peak_reduction_share, effect.ward_peak_delay_days)
@@ -560,6 +634,9 @@ class ScenarioView:
         Last simulated day.
     measure_spans : tuple of MeasureSpan
         When each measure was in force (with measures).
+    observed : tuple of ObservedCheck
+        The scenario (with measures) against the latest observed census
+        (:func:`with_observations`); empty without observations.
     """
 
     number: int
@@ -570,6 +647,7 @@ class ScenarioView:
     icu_periods_without: tuple[Period, ...]
     last_day: dt.date
     measure_spans: tuple[MeasureSpan, ...] = ()
+    observed: tuple[ObservedCheck, ...] = ()
 
     @property
     def name(self) -> str:
@@ -640,6 +718,16 @@ class ScenarioView:
         """:func:`scenario_brief` of the scenario."""
         return scenario_brief(self)
 
+    @property
+    def observed_sentence(self) -> str:
+        """:func:`observed_sentence` of the scenario ("" without observations)."""
+        return observed_sentence(self.observed)
+
+    @property
+    def contradicted(self) -> bool:
+        """True when an observed census lies outside the scenario's plausible range."""
+        return any(not check.consistent for check in self.observed)
+
 
 def _active_spans(plan: Plan, run: ScenarioRun, names: Iterable[str]) -> tuple[MeasureSpan, ...]:
     out = []
@@ -696,6 +784,134 @@ def scenario_views(plan: Plan, results: PlanResults) -> tuple[ScenarioView, ...]
     return tuple(out)
 
 
+def with_observations(
+    plan: Plan, views: Sequence[ScenarioView], uncertainty: Any | None = None
+) -> tuple[ScenarioView, ...]:
+    """The views with each scenario checked against the latest observed census.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan (its observations).
+    views : sequence of ScenarioView
+        Every scenario.
+    uncertainty : prepkit.uncertainty.UncertaintyResults, optional
+        The ensemble: its daily bands give each scenario's plausible range;
+        without it the range is the central run alone.
+
+    Returns
+    -------
+    tuple of ScenarioView
+        The same views, ``observed`` filled in.
+    """
+    if not plan.observed:
+        return tuple(views)
+    columns = ("q05", "q95")
+    if uncertainty is not None and uncertainty.scenarios:
+        low, _, high = band_columns(uncertainty.quantiles)
+        columns = (low, high)
+    out = []
+    for view in views:
+        result = scenario_ensemble(uncertainty, view.name) if uncertainty is not None else None
+        bands = result.with_interventions.daily if result is not None else None
+        checks = observed_checks(plan, view.item.with_interventions.daily, bands, columns)
+        out.append(replace(view, observed=checks))
+    return tuple(out)
+
+
+def observed_sentence(checks: Sequence[ObservedCheck]) -> str:
+    """How a scenario compares with the latest observed census, in words.
+
+    Parameters
+    ----------
+    checks : sequence of ObservedCheck
+        Ward and ICU checks of one scenario.
+
+    Returns
+    -------
+    str
+        E.g. "Observed on 3 Feb 2027: 15 ward and 3 ICU patients; this
+        scenario: 1 (1 to 2) and under 1. The observed ward and ICU patients
+        already lie above its plausible range." The plausible range is shown
+        in brackets when it is wider than one bed ("" without checks).
+    """
+    if not checks:
+        return ""
+    texts = []
+    for date in sorted({c.date for c in checks}):
+        day = [c for c in checks if c.date == date]
+        seen = " and ".join(
+            f"{format_number(c.observed_persons, words=True)} {BED_NOUNS[c.kind][1]}" for c in day
+        )
+        model = " and ".join(
+            format_number(c.central_beds, words=True)
+            + (
+                f" ({format_number(c.low_beds)} to {format_number(c.high_beds)})"
+                if round(c.low_beds) != round(c.high_beds) else ""
+            )
+            for c in day
+        )
+        texts.append(
+            f"Observed on {format_date(date)}: {seen} patients; this scenario: {model}."
+        )
+    off = [c for c in checks if not c.consistent]
+    if not off:
+        texts.append("The observations fit its plausible range.")
+    else:
+        sides = sorted({"above" if c.above else "below" for c in off})
+        kinds = " and ".join(BED_NOUNS[c.kind][1] for c in off)
+        texts.append(
+            f"The observed {kinds} patients already lie {' and '.join(sides)} its plausible range."
+        )
+    return " ".join(texts)
+
+
+def observed_flag(views: Sequence[ScenarioView]) -> str:
+    """The leader page's sentence on scenarios the observations already contradict.
+
+    Parameters
+    ----------
+    views : sequence of ScenarioView
+        Every scenario, checked by :func:`with_observations`.
+
+    Returns
+    -------
+    str
+        "" without observations; otherwise which scenarios the latest
+        observed census rules out, or that it fits them all.
+    """
+    checked = [v for v in views if v.observed]
+    if not checked:
+        return ""
+    date = format_date(max(c.date for v in checked for c in v.observed))
+    off = [v for v in checked if v.contradicted]
+    if not off:
+        return (
+            f"The hospital figures observed up to {date} fit the plausible range of "
+            f"{every_one(len(checked), 'scenario', 'scenarios')}."
+        )
+    names = _name_list([quoted(v.name) for v in off])
+    ahead = all(c.above for v in off for c in v.observed if not c.consistent)
+    if len(off) == len(checked):
+        where = "ahead of" if ahead else "apart from"
+        return (
+            f"The hospital figures observed up to {date} already lie outside the plausible "
+            f"range of every scenario: the outbreak is running {where} all of them, so read "
+            "their dates and peaks with care."
+        )
+    which = "that scenario" if len(off) == 1 else "those scenarios"
+    return (
+        f"The hospital figures observed up to {date} already lie outside the plausible range "
+        f"of {names}; read {which} with care."
+    )
+
+
+def _name_list(names: Sequence[str]) -> str:
+    if len(names) <= 2:
+        return " and ".join(names)
+    return ", ".join(names[:-1]) + " and " + names[-1]
+
+
 def scenario_brief(view: ScenarioView) -> str:
     """Two short sentences on one scenario for the leader page.
 
@@ -720,14 +936,14 @@ def scenario_brief(view: ScenarioView) -> str:
             start = format_date(bed.first_over_capacity_date)
             parts.append(
                 f"{title} beds run short on {format_days(bed.days_over_capacity_days)} from "
-                f"{start}; demand peaks at {format_number(bed.peak_demand_beds)} beds against "
-                f"{format_number(bed.available_beds)} available."
+                f"{start}; demand peaks at {format_number(bed.peak_demand_beds, words=True)} "
+                f"beds against {format_number(bed.available_beds, words=True)} available."
             )
     if not parts:
         parts.append(
             f"Demand stays within the available beds: peaks of "
-            f"{format_number(m.ward.peak_demand_beds)} ward and "
-            f"{format_number(m.icu.peak_demand_beds)} ICU beds."
+            f"{format_number(m.ward.peak_demand_beds, words=True)} ward and "
+            f"{format_number(m.icu.peak_demand_beds, words=True)} ICU beds."
         )
     if view.item.scenario.interventions:
         change = _peak_change(
@@ -760,21 +976,21 @@ def bottom_line(views: Sequence[ScenarioView]) -> tuple[str, ...]:
     if not short:
         top = max(views, key=lambda v: v.with_metrics.ward.peak_demand_beds)
         ward = top.with_metrics.ward
-        scope = "the scenario" if total == 1 else f"all {total} scenarios"
+        scope = every_one(total, "scenario", "scenarios")
         return (
             f"With the planned measures, outbreak patients stay within the available ward and "
             f"ICU beds in {scope}.",
-            f"The highest ward demand is {format_number(ward.peak_demand_beds)} beds "
+            f"The highest ward demand is {format_number(ward.peak_demand_beds, words=True)} beds "
             f"({quoted(top.name)}, {format_date(ward.peak_date)}) against "
-            f"{format_number(ward.available_beds)} available.",
+            f"{format_number(ward.available_beds, words=True)} available.",
         )
     if total == 1:
         first = "Outbreak patients would need more hospital beds than are available, even with "
         first += "the planned measures."
     elif len(short) == total:
         first = (
-            f"In all {total} scenarios, outbreak patients would need more hospital beds than "
-            "are available, even with the planned measures."
+            f"In {every_one(total, 'scenario', 'scenarios')}, outbreak patients would need more "
+            "hospital beds than are available, even with the planned measures."
         )
     else:
         first = (
@@ -790,8 +1006,8 @@ def bottom_line(views: Sequence[ScenarioView]) -> tuple[str, ...]:
             clauses.append(
                 f"{noun} beds run short on {format_days(bed.days_over_capacity_days)} from "
                 f"{format_date(bed.first_over_capacity_date)}, with demand peaking at "
-                f"{format_number(bed.peak_demand_beds)} beds against "
-                f"{format_number(bed.available_beds)} available"
+                f"{format_number(bed.peak_demand_beds, words=True)} beds against "
+                f"{format_number(bed.available_beds, words=True)} available"
             )
     lead = "The hardest case is" if total > 1 else "In"
     second = f"{lead} {quoted(worst.name)}: " + "; ".join(clauses) + "."
@@ -872,7 +1088,8 @@ def certainty_sentences(
     if len(views) > 1:
         out.append(
             f"The spread between the scenarios is the best guide to the uncertainty: ward peaks "
-            f"run from {format_number(min(peaks))} to {format_number(max(peaks))} beds."
+            f"run from {format_number(min(peaks), words=True)} to "
+            f"{format_number(max(peaks), words=True)} beds."
         )
     if plan.details.draws == 0:
         out.append("Uncertainty ranges were switched off for this pack (0 uncertainty draws).")
@@ -968,7 +1185,7 @@ def _bed_rows(
         TableRow(label="Days short with surge [days]",
                  cells=cells(lambda b: f"{b.days_over_capacity_with_surge_days:,}")),
         TableRow(label="Largest shortfall [beds]",
-                 cells=cells(lambda b: format_number(b.largest_shortfall_beds))),
+                 cells=cells(lambda b: f"{bed_shortfall(b):,}")),
         TableRow(label="Unmet bed-days [bed-days]",
                  cells=cells(lambda b: format_number(b.unmet_bed_days))),
     ]
@@ -1108,7 +1325,7 @@ def measure_when(start: Start, end: End) -> str:
     if end.kind == "horizon":
         finish = "to the end of the period"
     elif end.kind == "date":
-        finish = f"until {format_date(end.date)}"
+        finish = f"last day {format_date(end.date)}"
     elif end.kind == "duration":
         finish = f"for {format_days(round(end.duration_days or 0))}"
     else:
@@ -1557,7 +1774,7 @@ def build_context(
         Template variables. Every value is plain text or a dataclass of
         plain text: the templates escape all of it.
     """
-    views = scenario_views(plan, results)
+    views = with_observations(plan, scenario_views(plan, results), uncertainty)
     ensemble = ensemble_context(plan, views, uncertainty)
     d = plan.details
     last_day = plan.date_of(d.horizon_days - 1)
@@ -1614,6 +1831,8 @@ def build_context(
         "caution": CAUTION_LINE,
         "decisions": DECISIONS_LINE,
         "bottom_line": bottom_line(views),
+        "observed_flag": observed_flag(views),
+        "deaths_note": DEATHS_NOTE,
         "headline": headline,
         "headline_measures": headline_measures_text(headline) if headline else "",
         "certainty": certainty_sentences(plan, views, ensemble),
@@ -1948,9 +2167,25 @@ def likely_period(probability: pd.Series, threshold: float = 0.5) -> Period | No
     return runs[0] if runs else None
 
 
-def _quantile_text(row: Any, q_low: str, q_mid: str, q_high: str, fmt: Any = None) -> str:
-    show = fmt or format_number
-    return f"{show(float(row[q_low]))} to {show(float(row[q_high]))} ({show(float(row[q_mid]))})"
+def _spread_cells(central: float, row: Any, q_low: str, q_mid: str, q_high: str) -> tuple[
+    str, str, str
+]:
+    """Central run, median and range of one quantity, formatted alike [beds or bed-days]."""
+    return (
+        format_number(central),
+        format_number(float(row[q_mid])),
+        f"{format_number(float(row[q_low]))} to {format_number(float(row[q_high]))}",
+    )
+
+
+#: Said where the central run's figures meet the ensemble's (uncertainty page).
+HEADLINE_POLICY = (
+    "Every figure outside this section comes from the central run: one run of each scenario "
+    "with every uncertain input at its Central value. The table below puts that run beside "
+    "the median and the range of the {draws} runs. The two need not agree: outcomes do not "
+    "respond evenly to the inputs (a little faster spread raises a peak more than a little "
+    "slower spread lowers it), so the middle of the runs can sit above or below the central run."
+)
 
 
 def scenario_ensemble(uncertainty: Any, name: str) -> Any | None:
@@ -2025,11 +2260,14 @@ def ensemble_context(
             sentences.append(_exceedance_sentence(focus, result.with_interventions))
             peak = result.with_interventions.summary.loc["peak_icu_demand_beds"]
             sentences.append(
-                f"Its ICU peak lies between {format_number(float(peak[q_low]))} and "
-                f"{format_number(float(peak[q_high]))} beds in {range_words} futures."
+                f"Its ICU peak lies between {format_number(float(peak[q_low]), words=True)} and "
+                f"{format_number(float(peak[q_high]), words=True)} beds in {range_words} "
+                "futures (the central run quoted elsewhere in this pack: "
+                f"{format_number(focus.with_metrics.icu.peak_demand_beds, words=True)})."
             )
     chances = []
     rows = []
+    spread = []
     for view in views:
         result = scenario_ensemble(uncertainty, view.name)
         if result is None:
@@ -2048,15 +2286,26 @@ def ensemble_context(
                 cells=(
                     chance_cell(float(any_day.loc["ward", "any_day_probability"])),
                     chance_cell(float(any_day.loc["icu", "any_day_probability"])),
-                    _quantile_text(s.loc["peak_ward_demand_beds"], q_low, q_mid, q_high),
-                    _quantile_text(s.loc["peak_icu_demand_beds"], q_low, q_mid, q_high),
-                    _quantile_text(s.loc["total_unmet_bed_days"], q_low, q_mid, q_high),
                     (
                         f"{format_date(as_date(ward_peak_dates[q_low]), year=False)} to "
                         f"{format_date(as_date(ward_peak_dates[q_high]), year=False)}"
                         if ward_peak_dates[q_low] is not None
                         else "–"
                     ),
+                ),
+            )
+        )
+        m = view.with_metrics
+        spread.append(
+            TableRow(
+                label=view.name,
+                cells=(
+                    *_spread_cells(m.ward.peak_demand_beds, s.loc["peak_ward_demand_beds"],
+                                   q_low, q_mid, q_high),
+                    *_spread_cells(m.icu.peak_demand_beds, s.loc["peak_icu_demand_beds"],
+                                   q_low, q_mid, q_high),
+                    *_spread_cells(view.unmet_bed_days, s.loc["total_unmet_bed_days"],
+                                   q_low, q_mid, q_high),
                 ),
             )
         )
@@ -2091,10 +2340,11 @@ def ensemble_context(
         "own level; the other inputs over their whole range. Inputs given per age band move "
         "together: a draw with long ICU stays has long stays in every band.",
         f"Ranges in this pack run from the {round(100 * min(uncertainty.quantiles))}th to the "
-        f"{round(100 * max(uncertainty.quantiles))}th percentile of the draws, with the median "
-        "in brackets. The chance of running short is the share of draws in which demand is "
-        "above the available beds on at least one day. The sensitivity chart moves one input "
-        "at a time to each end of its range while the others stay at their most likely values.",
+        f"{round(100 * max(uncertainty.quantiles))}th percentile of the draws, shown beside "
+        "the median and the central run. The chance of running short is the share of draws in "
+        "which demand is above the available beds on at least one day. The sensitivity chart "
+        "moves one input at a time to each end of its range while the others stay at their "
+        "most likely values.",
     )
     references = (
         "Malcolm DG, Roseboom JH, Clark CE, Fazar W (1959). Application of a technique for "
@@ -2108,6 +2358,8 @@ def ensemble_context(
         "sentences": tuple(sentences),
         "intro": intro,
         "rows": tuple(rows),
+        "spread_rows": tuple(spread),
+        "headline_policy": HEADLINE_POLICY.format(draws=f"{draws:,}"),
         "drivers": drivers,
         "method": method,
         "references": references,
@@ -2196,11 +2448,16 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
         if result is None:
             continue
         s = result.with_interventions.summary
-        ward = _quantile_text(s.loc["peak_ward_demand_beds"], q_low, q_mid, q_high)
-        icu = _quantile_text(s.loc["peak_icu_demand_beds"], q_low, q_mid, q_high)
-        parts.append(
-            f"{view.name}: ward peak {ward} beds, ICU peak {icu} beds (median in brackets)."
-        )
+        texts = []
+        for kind in ("ward", "icu"):
+            central, median, spread = _spread_cells(
+                getattr(view.with_metrics, kind).peak_demand_beds,
+                s.loc[f"peak_{kind}_demand_beds"], q_low, q_mid, q_high,
+            )
+            texts.append(
+                f"{BED_NOUNS[kind][1]} peak {spread} beds (median {median}, central run {central})"
+            )
+        parts.append(f"{view.name}: {'; '.join(texts)}.")
     return " ".join(parts)
 
 
