@@ -80,6 +80,18 @@ class BedMetrics:
 
 
 @dataclass(frozen=True, kw_only=True)
+class VentilatorMetrics:
+    """Outbreak ICU patients on a ventilator against the ventilators available."""
+
+    peak_demand_devices: float
+    peak_date: dt.date | None
+    available_devices: int | None
+    first_short_date: dt.date | None
+    days_short_days: int
+    largest_shortfall_devices: float
+
+
+@dataclass(frozen=True, kw_only=True)
 class ScenarioMetrics:
     """Metrics of one scenario variant."""
 
@@ -95,6 +107,7 @@ class ScenarioMetrics:
     peak_admissions_date: dt.date | None
     peak_absence_share: float
     peak_absence_date: dt.date | None
+    ventilators: VentilatorMetrics
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -269,7 +282,46 @@ def add_capacity_columns(daily: pd.DataFrame, capacity: Capacity) -> pd.DataFram
             out[f"{kind}_occupancy_share"] = demand / available
         else:
             out[f"{kind}_occupancy_share"] = np.where(demand > 0.0, np.inf, 0.0)
+    out["ventilator_demand_devices"] = out["icu_demand_beds"] * capacity.ventilated_icu_share
     return out
+
+
+def ventilator_metrics(daily: pd.DataFrame, capacity: Capacity) -> VentilatorMetrics:
+    """Ventilators needed by outbreak ICU patients against those available.
+
+    Demand on a day is ICU demand x the share of ICU patients ventilated
+    (a census times a share: by Little's law, Little 1961, Oper Res 9:383,
+    the same as ventilated admissions x days on a ventilator when the share
+    holds over the stay).
+
+    Parameters
+    ----------
+    daily : pandas.DataFrame
+        Daily series with ``ventilator_demand_devices``.
+    capacity : Capacity
+        Hospital capacity (ventilators available, if given).
+
+    Returns
+    -------
+    VentilatorMetrics
+        Peak demand [devices] and its date; with ventilators given, the
+        first day short, days short [days] and the largest shortfall
+        [devices]; without, no days short.
+    """
+    demand = daily["ventilator_demand_devices"]
+    top, when = peak(demand)
+    if capacity.ventilators is None:
+        return VentilatorMetrics(
+            peak_demand_devices=top, peak_date=when, available_devices=None,
+            first_short_date=None, days_short_days=0, largest_shortfall_devices=0.0,
+        )
+    have = float(capacity.ventilators)
+    return VentilatorMetrics(
+        peak_demand_devices=top, peak_date=when, available_devices=capacity.ventilators,
+        first_short_date=first_exceedance_date(demand, have),
+        days_short_days=days_over_capacity(demand, have),
+        largest_shortfall_devices=largest_shortfall(demand, have),
+    )
 
 
 def working_age_weights(
@@ -486,6 +538,7 @@ def scenario_metrics(
         peak_admissions_date=adm_date,
         peak_absence_share=abs_peak,
         peak_absence_date=abs_date,
+        ventilators=ventilator_metrics(daily, capacity),
     )
 
 

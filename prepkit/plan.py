@@ -258,7 +258,10 @@ class Capacity:
     ward_beds, icu_beds : int
         Staffed beds [beds].
     ventilators : int or None
-        Ventilators [devices], if known.
+        Ventilators available to outbreak patients [devices], if known.
+    ventilated_icu_share : float
+        Share of outbreak ICU patients on a ventilator on any day [fraction]
+        (the workbook's default when not given).
     ward_baseline_occupancy, icu_baseline_occupancy : float
         Share of beds used by other patients [fraction].
     surge_ward_beds, surge_icu_beds : int
@@ -276,6 +279,7 @@ class Capacity:
     ward_beds: int
     icu_beds: int
     ventilators: int | None
+    ventilated_icu_share: float = 0.5
     ward_baseline_occupancy: float
     icu_baseline_occupancy: float
     surge_ward_beds: int

@@ -31,7 +31,7 @@ from typing import Any, Literal
 import pandas as pd
 
 from prepkit.engine import PlanResults, ScenarioResults, ScenarioRun, column_slug
-from prepkit.metrics import BedMetrics, ScenarioMetrics
+from prepkit.metrics import BedMetrics, ScenarioMetrics, VentilatorMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.uncertainty import quantile_label
@@ -112,6 +112,7 @@ __all__ = [
     "surge_sentence",
     "tornado_alt",
     "transmissibility_rows",
+    "ventilator_sentence",
 ]
 
 BedKind = Literal["ward", "icu"]
@@ -484,6 +485,43 @@ def bed_sentence(
     )
 
 
+def ventilator_sentence(vent: VentilatorMetrics) -> str:
+    """Ventilators needed by outbreak ICU patients against those available, in words.
+
+    Parameters
+    ----------
+    vent : VentilatorMetrics
+        Ventilator metrics of one scenario variant.
+
+    Returns
+    -------
+    str
+        One sentence ("" when no ICU patient needs a ventilator).
+    """
+    if vent.peak_date is None or round(vent.peak_demand_devices) == 0 and (
+        vent.days_short_days == 0
+    ):
+        return ""
+    need = format_number(vent.peak_demand_devices, words=True)
+    when = format_date(vent.peak_date)
+    if vent.available_devices is None:
+        return (
+            f"Up to {need} ICU patients would need a ventilator at once ({when}); the workbook "
+            "does not say how many ventilators there are."
+        )
+    have = f"{vent.available_devices:,}"
+    if vent.days_short_days == 0:
+        return (
+            f"Up to {need} ICU patients would need a ventilator at once ({when}), within the "
+            f"{have} available."
+        )
+    return (
+        f"Ventilators run short on {format_days(vent.days_short_days)} from "
+        f"{format_date(vent.first_short_date)}: up to {need} needed at once ({when}) against "
+        f"{have} available."
+    )
+
+
 def bed_shortfall(bed: BedMetrics) -> int:
     """:func:`shortfall_beds` of one bed type's metrics [beds]."""
     return shortfall_beds(bed.peak_demand_beds, bed.available_beds, bed.largest_shortfall_beds)
@@ -700,6 +738,11 @@ class ScenarioView:
     def icu_sentence(self) -> str:
         """:func:`bed_sentence` for ICU beds with measures."""
         return bed_sentence("icu", self.with_metrics.icu, self.icu_periods, self.last_day)
+
+    @property
+    def ventilator_sentence(self) -> str:
+        """:func:`ventilator_sentence` with measures ("" when none are needed)."""
+        return ventilator_sentence(self.with_metrics.ventilators)
 
     @property
     def surge_sentences(self) -> tuple[str, ...]:
@@ -1191,6 +1234,22 @@ def _bed_rows(
     ]
 
 
+def _ventilator_rows(available: int | None, cells: Any) -> list[TableRow]:
+    head = (
+        f"Ventilators: {available:,} available" if available is not None
+        else "Ventilators: number available not given"
+    )
+    rows = [
+        TableRow(label=head, group=True),
+        TableRow(label="Needed at the peak [devices]",
+                 cells=cells(lambda m: format_number(m.ventilators.peak_demand_devices))),
+    ]
+    if available is not None:
+        rows.append(TableRow(label="Days short [days]",
+                             cells=cells(lambda m: f"{m.ventilators.days_short_days:,}")))
+    return rows
+
+
 def comparison_tables(
     views: Sequence[ScenarioView], year: int, per_table: int = 4
 ) -> tuple[ComparisonTable, ...]:
@@ -1226,6 +1285,7 @@ def comparison_tables(
 
         rows = _bed_rows("ward", [(a.ward, b.ward) for a, b in metrics], year)
         rows += _bed_rows("icu", [(a.icu, b.icu) for a, b in metrics], year)
+        rows += _ventilator_rows(metrics[0][0].ventilators.available_devices, cells)
         rows += [
             TableRow(label="People", group=True),
             TableRow(label="Peak admissions [per day]",

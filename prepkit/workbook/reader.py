@@ -925,6 +925,7 @@ class _Reader:
         capacity = Capacity(
             ward_beds=item("capacity.ward_beds"), icu_beds=item("capacity.icu_beds"),
             ventilators=self.used_if_given(it[("capacity.ventilators", "central")]),
+            ventilated_icu_share=float(item("capacity.ventilated_icu_share")),
             ward_baseline_occupancy=float(item("capacity.ward_baseline_occupancy")),
             icu_baseline_occupancy=float(item("capacity.icu_baseline_occupancy")),
             surge_ward_beds=item("capacity.surge_ward_beds"),

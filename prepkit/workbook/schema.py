@@ -437,7 +437,13 @@ FIELDS: tuple[Field, ...] = (
           help="Adult and paediatric intensive care beds that can be staffed today."),
     Field(name="capacity.ventilators", sheet=HOSPITALS, label="Ventilators", unit="devices",
           type="integer", minimum=0, maximum=100_000,
-          help="Optional: mechanical ventilators available. Shown in the pack."),
+          help="Optional: mechanical ventilators available to outbreak patients. The pack "
+               "compares them with the ICU patients who need one, day by day."),
+    Field(name="capacity.ventilated_icu_share", sheet=HOSPITALS,
+          label="ICU patients needing a ventilator", unit="%", type="share", default=0.5,
+          help="Share of outbreak ICU patients on mechanical ventilation on any day. Default "
+               "50%: in the US HHS Pandemic Influenza Plan (2005), Table 1, 7.5% of "
+               "hospitalised patients need ventilation and 15% need ICU care."),
     Field(name="capacity.ward_baseline_occupancy", sheet=HOSPITALS,
           label="Ward beds used by other patients", unit="%", type="share", default=0.85,
           help="Share of ward beds filled by patients without this disease. Default 85%: "
