@@ -125,7 +125,8 @@ SHEET_PURPOSE: dict[str, str] = {
     WORKFORCE: "Inputs for estimating staff absence from illness and school closures.",
     MEASURES: (
         "One row per measure: fewer contacts (school closure, distancing), vaccination, or "
-        "isolation of cases; when it starts and ends, and how well it is followed."
+        "isolation of cases; when it starts and ends (a start date is the first day in force, "
+        "an end date the first day without it), and how well it is followed."
     ),
     SCENARIOS: (
         "One row per scenario: which transmissibility and severity level, and which measures. "
