@@ -4,7 +4,7 @@ Run with ``.venv/bin/python benchmarks/ensemble.py``. The plan is the invented
 city of Vellmora (16 five-year bands, full contact matrices; built by
 ``sample_workbooks/build_samples.py``) over 365 days, with every
 Low/Central/High range open (the two point compliances are widened here),
-scenario "Reasonable worst case" (every measure: a ward-occupancy-triggered
+scenario "Fast spread, severe, all measures" (every measure: a ward-occupancy-triggered
 school closure, dated distancing, vaccination, case isolation) with its
 interventions. In one run it measures:
 
@@ -72,7 +72,7 @@ from prepkit.uncertainty import (  # noqa: E402
     uncertainty_summary_dict,
 )
 
-SCENARIO = "Reasonable worst case"
+SCENARIO = "Fast spread, severe, all measures"
 HORIZON = 365
 NAIVE_DRAWS = 5
 REPEATS = 2

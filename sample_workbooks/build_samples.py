@@ -5,6 +5,11 @@ and Tamsett Hollow, a small town of about 8,000. Every figure is invented for
 the demo; where a figure sits inside a published range the "Source or note"
 cell of the workbook says so.
 
+Scenario names and descriptions, and every note that quotes a figure of the
+plan, are written by the functions of the "Story" section from the same
+objects the plan holds (dates from the measures' ``date`` values, doses from
+their numbers), so the words cannot drift from the figures.
+
 Run from the repository root::
 
     .venv/bin/python sample_workbooks/build_samples.py [OUTDIR]
@@ -25,6 +30,7 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
+from prepkit.model.inputs import DOUBLING_TIME_LEVEL
 from prepkit.plan import (
     SETTINGS,
     AgeBand,
@@ -35,6 +41,7 @@ from prepkit.plan import (
     End,
     Intervention,
     Isolation,
+    Level,
     Observation,
     Plan,
     Range3,
@@ -57,44 +64,19 @@ SAMPLE_DATE_EPOCH = 1_796_083_200
 # ---- Note texts --------------------------------------------------------------------------
 
 INVENTED = "Invented for the demo."
-MOSSONG = (
-    "Invented matrices, scaled so the population mean is about the 13.4 contacts/day survey "
-    "mean (Mossong et al. 2008, PLoS Med 5:e74); age-assortative as in that survey and in "
-    "Prem, Cook & Jit 2017 (PLoS Comput Biol 13:e1005697). Reciprocal: contacts from band i "
-    "to band j times people in i equal those from j to i times people in j."
-)
-MOSSONG_SIMPLE = (
-    "Invented; the population mean is close to the 13.4 contacts/day survey mean "
-    "(Mossong et al. 2008, PLoS Med 5:e74)."
-)
+MOSSONG_SURVEY = "the 13.4 contacts/day survey mean (Mossong et al. 2008, PLoS Med 5:e74)"
 BAGUST = (
     "Invented figure at the level above which risk rises, about 85% mean occupancy "
     "(Bagust, Place & Posnett 1999, BMJ 319:155)."
 )
 WUNSCH = (
-    "Invented figure equal to a published US adult ICU mean occupancy of about 68% "
+    "Invented figure equal to the 68% mean occupancy of 97 US ICUs in 2005-2007 "
     "(Wunsch et al. 2013, Crit Care Med 41:2712)."
 )
 SCHOOLS = (
     "Invented contact reductions. Published modelling reports peak reductions up to ~40% "
     "from school closure with little change in the final size (Ferguson et al. 2006, "
     "Nature 442:448; Cauchemez et al. 2009, Lancet Infect Dis 9:473)."
-)
-
-
-def hhs_note(overall: str) -> str:
-    """Note on the admitted shares, with the plan's overall high-severity figure."""
-    return (
-        f"Invented. Over the whole population the High column admits about {overall} of "
-        "people with symptoms, inside the range of a published pandemic influenza planning "
-        "table: 0.96% (moderate) to 11% (severe) hospitalised per ill (US HHS Pandemic "
-        "Influenza Plan 2005, Table 1)."
-    )
-
-
-HHS_ICU = (
-    "Invented; overall close to the 15% ICU share of admissions in a published pandemic "
-    "influenza planning table (US HHS Pandemic Influenza Plan 2005, Table 1)."
 )
 SURGE = (
     "Invented. Surge tiers follow the conventional / contingency / crisis idea (Hick, "
@@ -166,6 +148,256 @@ def reciprocal_contacts(people: NDArray[np.float64], kernel: NDArray[np.float64]
 
 def _gauss(d: NDArray[np.float64], centre: float, width: float) -> NDArray[np.float64]:
     return np.exp(-0.5 * ((np.abs(d) - centre) / width) ** 2)
+
+
+# ---- Story: names, descriptions and notes written from the plan's own figures ---------------
+
+MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August",
+          "September", "October", "November", "December")
+COUNT_WORDS = ("no", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine")
+COLUMN_WORDS: dict[Level, str] = {"low": "Low", "central": "Central", "high": "High"}
+SPREAD_WORDS: dict[Level, str] = {"low": "Slow spread", "central": "Central spread",
+                                  "high": "Fast spread"}
+SEVERITY_WORDS: dict[Level, str] = {"low": "mild", "central": "central severity",
+                                    "high": "severe"}
+SHORT_NAMES = {"vaccination": "vaccine", "isolation": "isolation"}
+
+
+def day_month(day: dt.date | None, year: int) -> str:
+    """A date as ``25 January``, with the year only when it is not ``year``."""
+    if day is None:
+        raise ValueError("a measure needs its date")
+    text = f"{day.day} {MONTHS[day.month - 1]}"
+    return text if day.year == year else f"{text} {day.year}"
+
+
+def percent(share: float | None) -> str:
+    """A share [fraction] as a percentage: 0.6 gives ``60%``."""
+    if share is None:
+        raise ValueError("a measure needs its level")
+    return f"{round(100 * share, 4):g}%"
+
+
+def number(x: float | None) -> str:
+    """A number with thousands separators and no trailing zeros: ``2,000``, ``3.5``."""
+    if x is None:
+        raise ValueError("a measure needs its number")
+    return f"{x:,g}"
+
+
+def count_word(n: int) -> str:
+    """A small count in words: 3 gives ``three``."""
+    return COUNT_WORDS[n] if n < len(COUNT_WORDS) else f"{n:,}"
+
+
+def last_day_in_force(end: End) -> dt.date:
+    """Last day a measure that ends on a date is in force.
+
+    The workbook's end date is the last day in force (the model lifts the
+    measure at the midnight that follows it).
+    """
+    if end.date is None:
+        raise ValueError("a measure ending on a date needs its end date")
+    return end.date
+
+
+def _span(days: int) -> str:
+    """A length of time [days] in words, in weeks when it is whole weeks."""
+    if days % 7 == 0:
+        weeks = days // 7
+        return f"{weeks} week" if weeks == 1 else f"{weeks} weeks"
+    return f"{days} day" if days == 1 else f"{days} days"
+
+
+def _band_order(priority: Sequence[int], bands: Sequence[AgeBand]) -> str:
+    ages = [bands[i].lower_age for i in priority]
+    if ages == sorted(ages, reverse=True):
+        return "oldest first"
+    if ages == sorted(ages):
+        return "youngest first"
+    return "in the band order of the Measures sheet"
+
+
+def measure_phrase(item: Intervention, bands: Sequence[AgeBand], year: int) -> str:
+    """One measure in words, every date and number taken from the measure itself.
+
+    E.g. ``distancing advice from 1 February to 30 May (17 weeks)``; dates
+    in ``year`` are written without it.
+    """
+    name = item.name[:1].lower() + item.name[1:]
+    start, end = item.start, item.end
+    if start.kind == "date":
+        begin = f"from {day_month(start.date, year)}"
+    elif start.kind == "admissions":
+        begin = f"once admissions reach {number(start.level)} a day"
+    else:
+        beds = "ward" if start.kind == "ward_occupancy" else "ICU"
+        begin = (f"once outbreak patients fill {percent(start.level)} of the {beds} beds "
+                 "available to them")
+    if end.kind == "date":
+        last = last_day_in_force(end)
+        text = f"{name} {begin} to {day_month(last, year)}"
+        if start.date is not None:
+            text += f" ({_span((last - start.date).days + 1)})"
+    elif end.kind == "duration":
+        text = f"{name} for {number(end.duration_days)} days {begin}"
+    elif end.kind == "release":
+        level = (f"{number(end.level)} a day" if start.kind == "admissions"
+                 else percent(end.level))
+        text = f"{name} {begin} until the level falls to {level}"
+    else:
+        text = f"{name} {begin}"
+    if item.vaccination is not None:
+        v = item.vaccination
+        text += (f", {number(v.doses_per_day)} doses a day, "
+                 f"{_band_order(v.priority, bands)}")
+    return text
+
+
+def spread_phrase(disease: Disease, level: Level) -> str:
+    """How fast the disease spreads at a transmissibility level, from the plan's column."""
+    if disease.r0 is not None:
+        return f"R0 {number(disease.r0.at(level))} (the {COLUMN_WORDS[level]} column)"
+    if disease.doubling_time_days is not None:
+        # High transmissibility means fast spread: the shortest doubling time.
+        column = DOUBLING_TIME_LEVEL[level]
+        return (f"cases double every {number(disease.doubling_time_days.at(column))} days "
+                f"(the {COLUMN_WORDS[column]} column of the doubling time)")
+    if disease.growth_rate_per_day is None:
+        raise ValueError("the disease needs R0, a doubling time or a growth rate")
+    return (f"infections grow by {percent(disease.growth_rate_per_day.at(level))} a day "
+            f"(the {COLUMN_WORDS[level]} column)")
+
+
+def scenario_name(transmissibility: Level, severity: Level, chosen: Sequence[Intervention],
+                  measures_in_plan: int) -> str:
+    """A plain name saying how fast, how severe and which measures.
+
+    E.g. ``Fast spread, severe, all measures`` or ``Central figures, vaccine only``.
+    """
+    if transmissibility == severity == "central":
+        lead = "Central figures"
+    else:
+        lead = f"{SPREAD_WORDS[transmissibility]}, {SEVERITY_WORDS[severity]}"
+    if not chosen:
+        tail = "no measures"
+    elif len(chosen) == 1:
+        item = chosen[0]
+        tail = f"{SHORT_NAMES.get(item.kind, item.name.lower())} only"
+    elif len(chosen) == measures_in_plan:
+        tail = "both measures" if measures_in_plan == 2 else "all measures"
+    else:
+        tail = f"{count_word(len(chosen))} measures"
+    return f"{lead}, {tail}"
+
+
+def make_scenario(*, disease: Disease, interventions: Sequence[Intervention],
+                  bands: Sequence[AgeBand], day0: dt.date, transmissibility: Level,
+                  severity: Level, measures: Sequence[str]) -> Scenario:
+    """A scenario whose name and description are written from its own inputs.
+
+    The description says how fast the disease spreads at the scenario's level
+    (the plan's own column) and lists its measures with their dates and doses.
+    """
+    by_name = {m.name: m for m in interventions}
+    chosen = [by_name[name] for name in measures]
+    # The levels themselves stand beside the description (Scenarios sheet, pack).
+    lead = spread_phrase(disease, transmissibility)
+    first = f"{lead[:1].upper()}{lead[1:]}."
+    phrases = "; ".join(measure_phrase(m, bands, day0.year) for m in chosen)
+    n = len(chosen)
+    if n == 0:
+        second = "No measures."
+    elif n == 1:
+        second = f"One measure only: {phrases}."
+    elif n == len(interventions):
+        count = "Both" if n == 2 else f"All {count_word(n)}"
+        second = f"{count} measures: {phrases}."
+    else:
+        second = f"{count_word(n).capitalize()} measures: {phrases}."
+    return Scenario(
+        name=scenario_name(transmissibility, severity, chosen, len(interventions)),
+        transmissibility_level=transmissibility,
+        severity_level=severity,
+        interventions=tuple(measures),
+        description=f"{first} {second}",
+    )
+
+
+def mean_daily_contacts(plan: Plan) -> float:
+    """Population mean of the daily contacts per person [contacts/person/day]."""
+    people = np.array([b.people for b in plan.bands])
+    c = plan.contacts
+    if c.matrices is not None:
+        per_band = sum(np.array(c.matrices[s]).sum(axis=1) for s in SETTINGS)
+    elif c.mean_daily is not None:
+        per_band = np.array(c.mean_daily)
+    else:
+        raise ValueError("the plan gives no contacts")
+    return float(np.asarray(per_band) @ people / people.sum())
+
+
+def contacts_note(plan: Plan) -> str:
+    """Note on the contacts, quoting the plan's own population mean."""
+    mean = f"{mean_daily_contacts(plan):.1f}"
+    if plan.contacts.matrices is None:
+        return (f"Invented; the population mean is {mean} contacts/day, to compare with "
+                f"{MOSSONG_SURVEY}.")
+    return (
+        f"Invented matrices with a population mean of {mean} contacts/day, to compare with "
+        f"{MOSSONG_SURVEY}; age-assortative as in that survey and in Prem, Cook & Jit 2017 "
+        "(PLoS Comput Biol 13:e1005697). Reciprocal: contacts from band i to band j times "
+        "people in i equal those from j to i times people in j."
+    )
+
+
+def admitted_per_ill(plan: Plan, level: Level) -> float:
+    """Admissions per person with symptoms over the whole population [fraction].
+
+    Admitted shares at ``level``; shares with symptoms at Central.
+    """
+    people = np.array([b.people for b in plan.bands])
+    admitted = np.array([r.at(level) for r in plan.severity.admitted_share])
+    ill = np.array([r.central for r in plan.disease.symptomatic_share])
+    return float(admitted @ people / (ill @ people))
+
+
+def icu_share_overall(plan: Plan) -> float:
+    """Central share of all admissions that go to ICU [fraction]."""
+    people = np.array([b.people for b in plan.bands])
+    admitted = np.array([r.central for r in plan.severity.admitted_share]) * people
+    icu = np.array([r.central for r in plan.severity.icu_share])
+    return float(icu @ admitted / admitted.sum())
+
+
+def admitted_note(plan: Plan) -> str:
+    """Note on the admitted shares, quoting the plan's overall high-severity figure."""
+    return (
+        f"Invented. Over the whole population the High column admits "
+        f"{100 * admitted_per_ill(plan, 'high'):.1f}% of people with symptoms (Central "
+        "share with symptoms), inside the range of a published pandemic influenza planning "
+        "table: 0.96% (moderate) to 11% (severe) hospitalised per ill (US HHS Pandemic "
+        "Influenza Plan 2005, Table 1)."
+    )
+
+
+def icu_note(plan: Plan) -> str:
+    """Note on the ICU shares, quoting the plan's overall central figure."""
+    return (
+        f"Invented; overall {100 * icu_share_overall(plan):.0f}% of admissions need ICU, "
+        "close to the 15% ICU share of admissions in a published pandemic influenza planning "
+        "table (US HHS Pandemic Influenza Plan 2005, Table 1)."
+    )
+
+
+def icu_surge_note(capacity: Capacity) -> str:
+    """Note on the ICU surge beds, quoting how far they stretch the usual ICU."""
+    stretch = (capacity.icu_beds + capacity.surge_icu_beds) / capacity.icu_beds
+    return (
+        "Invented. Published ICU surge planning aims for about 3x usual ICU capacity for up "
+        "to 10 days (Rubinson et al. 2008, Chest 133(5 Suppl):32S); this plan reaches about "
+        f"{stretch:.1f}x."
+    )
 
 
 # ---- Vellmora ------------------------------------------------------------------------------
@@ -330,6 +562,7 @@ def vellmora_plan() -> Plan:
             name="Distancing advice",
             kind="contacts",
             start=Start(kind="date", date=DAY0 + dt.timedelta(days=28)),
+            # The end date is the last day in force: to 31 May.
             end=End(kind="date", date=dt.date(2027, 5, 31)),
             contacts_kept={"work": 0.75, "community": 0.60},
             compliance=rng3(0.50, 0.70, 0.85),
@@ -358,47 +591,18 @@ def vellmora_plan() -> Plan:
         ),
     )
     everything = tuple(i.name for i in interventions)
+
+    def scenario(transmissibility: Level, severity: Level, *measures: str) -> Scenario:
+        return make_scenario(disease=disease, interventions=interventions, bands=bands,
+                             day0=DAY0, transmissibility=transmissibility, severity=severity,
+                             measures=measures)
+
     scenarios = (
-        Scenario(
-            name="Reasonable worst case",
-            transmissibility_level="high",
-            severity_level="high",
-            interventions=everything,
-            description=(
-                "Fast spread (R0 2.4) and the high severity figures, with every measure in "
-                "place: the case to test the surge plan against."
-            ),
-        ),
-        Scenario(
-            name="Central planning case",
-            transmissibility_level="central",
-            severity_level="central",
-            interventions=("Schools closed", "Distancing advice", "Vaccine programme"),
-            description=(
-                "Central figures throughout, with school closure on a ward-occupancy trigger, "
-                "distancing advice from February and the vaccine from late January."
-            ),
-        ),
-        Scenario(
-            name="Milder wave",
-            transmissibility_level="low",
-            severity_level="low",
-            interventions=("Isolation of cases",),
-            description=(
-                "Slower spread (R0 1.5) and the low severity figures, with isolation of cases "
-                "only."
-            ),
-        ),
-        Scenario(
-            name="Vaccine only",
-            transmissibility_level="central",
-            severity_level="central",
-            interventions=("Vaccine programme",),
-            description=(
-                "Central figures with the vaccine programme from 5 March and no other measure: "
-                "what a vaccine arriving in March can do on its own."
-            ),
-        ),
+        scenario("high", "high", *everything),
+        scenario("central", "central", "Schools closed", "Distancing advice",
+                 "Vaccine programme"),
+        scenario("low", "low", "Isolation of cases"),
+        scenario("central", "central", "Vaccine programme"),
     )
     observed = tuple(
         Observation(date=DAY0 + dt.timedelta(days=day), admissions=adm, ward_census=ward,
@@ -469,11 +673,7 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "capacity.ward_baseline_occupancy": BAGUST,
         "capacity.icu_baseline_occupancy": WUNSCH,
         "capacity.surge_ward_beds": SURGE,
-        "capacity.surge_icu_beds": (
-            "Invented. Published ICU surge planning aims for about 3x usual ICU capacity for "
-            "up to 10 days (Rubinson et al. 2008, Chest 133(5 Suppl)); this plan reaches "
-            "about 1.5x."
-        ),
+        "capacity.surge_icu_beds": icu_surge_note(plan.capacity),
         "capacity.surge_days_to_open": INVENTED,
         "capacity.surge_trigger_occupancy": INVENTED,
         "capacity.catchment_share": "Invented: some residents are admitted outside the city.",
@@ -482,17 +682,19 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "measure.compliance@Schools closed": SCHOOLS,
         "measure.compliance@Distancing advice": INVENTED,
         "measure.efficacy_infection@Vaccine programme": (
-            "Invented: a first-season vaccine, 2,000 doses a day from late January, oldest "
-            "first."
+            "Invented efficacy of a first-season vaccine. The measure: "
+            + measure_phrase(plan.intervention("Vaccine programme"), plan.bands,
+                             plan.details.day0.year)
+            + "."
         ),
         "measure.compliance@Isolation of cases": ISOLATION,
         "mixing.assortativity": "Not used in this plan: the four contact-matrix sheets are "
-                                "filled in. " + MOSSONG,
+                                "filled in. " + contacts_note(plan),
         "band.people": "Invented age pyramid.",
         "band.high_risk_share": INVENTED,
         "band_disease.symptomatic_share": INVENTED,
-        "band_severity.admitted_share": hhs_note("2%"),
-        "band_severity.icu_share": HHS_ICU,
+        "band_severity.admitted_share": admitted_note(plan),
+        "band_severity.icu_share": icu_note(plan),
         "band_severity.ward_stay_days": INVENTED,
     }
     return notes
@@ -579,6 +781,7 @@ def tamsett_hollow_plan() -> Plan:
             name="School closure",
             kind="contacts",
             start=Start(kind="date", date=dt.date(2027, 2, 1)),
+            # The end date is the last day in force: six weeks, 1 Feb to 14 Mar.
             end=End(kind="date", date=dt.date(2027, 3, 14)),
             contacts_kept={"school": 0.10, "community": 0.90},
             compliance=rng3(0.75, 0.90, 0.95),
@@ -592,40 +795,17 @@ def tamsett_hollow_plan() -> Plan:
             compliance=rng3(0.60, 0.75, 0.85),
         ),
     )
+    def scenario(transmissibility: Level, severity: Level, *measures: str) -> Scenario:
+        return make_scenario(disease=disease, interventions=interventions, bands=bands,
+                             day0=DAY0, transmissibility=transmissibility, severity=severity,
+                             measures=measures)
+
     scenarios = (
-        Scenario(
-            name="Fast spread",
-            # High transmissibility picks the shortest doubling time (its Low column).
-            transmissibility_level="high",
-            severity_level="high",
-            interventions=("School closure", "Isolation of cases"),
-            description=(
-                "High transmissibility: cases double every 3.5 days (the Low column of the "
-                "doubling time). High severity figures; schools closed for six weeks from "
-                "1 February and isolation of cases."
-            ),
-        ),
-        Scenario(
-            name="Central planning case",
-            transmissibility_level="central",
-            severity_level="central",
-            interventions=("School closure", "Isolation of cases"),
-            description=(
-                "Cases double every 4.5 days; central severity; schools closed for six weeks "
-                "and isolation of cases."
-            ),
-        ),
-        Scenario(
-            name="Slow spread",
-            # Low transmissibility picks the longest doubling time (its High column).
-            transmissibility_level="low",
-            severity_level="low",
-            interventions=("Isolation of cases",),
-            description=(
-                "Low transmissibility: cases double every 6 days (the High column of the "
-                "doubling time). Low severity figures; isolation of cases only."
-            ),
-        ),
+        # High transmissibility picks the shortest doubling time (its Low column).
+        scenario("high", "high", "School closure", "Isolation of cases"),
+        scenario("central", "central", "School closure", "Isolation of cases"),
+        # Low transmissibility picks the longest doubling time (its High column).
+        scenario("low", "low", "Isolation of cases"),
     )
     return Plan(
         details=Details(
@@ -651,12 +831,16 @@ def tamsett_hollow_plan() -> Plan:
 
 def tamsett_hollow_notes(plan: Plan) -> dict[str, str]:
     """Source-or-note cells of the Tamsett Hollow workbook."""
+    doubling = plan.disease.doubling_time_days
+    if doubling is None:
+        raise ValueError("the Tamsett Hollow plan gives a doubling time")
+    fastest = doubling.at(DOUBLING_TIME_LEVEL["high"])
     notes: dict[str, str] = {
         "details.jurisdiction": "Invented town for the prepkit demo.",
         "mixing.assortativity": INVENTED,
         "disease.doubling_time_days": (
-            "Invented. Low is the fast end: 3.5 days is the fastest spread planned for, used by "
-            "scenarios with High transmissibility."
+            f"Invented. Low is the fast end: {number(fastest)} days is the fastest spread "
+            "planned for, used by scenarios with High transmissibility."
         ),
         "disease.latent_period_days": INVENTED,
         "disease.infectious_period_days": INVENTED,
@@ -674,9 +858,9 @@ def tamsett_hollow_notes(plan: Plan) -> dict[str, str]:
         "measure.compliance@School closure": SCHOOLS,
         "measure.compliance@Isolation of cases": ISOLATION,
         "band.people": INVENTED,
-        "band_contacts.mean_daily": MOSSONG_SIMPLE,
-        "band_severity.admitted_share": hhs_note("3%"),
-        "band_severity.icu_share": HHS_ICU,
+        "band_contacts.mean_daily": contacts_note(plan),
+        "band_severity.admitted_share": admitted_note(plan),
+        "band_severity.icu_share": icu_note(plan),
     }
     return notes
 

@@ -333,17 +333,17 @@ def test_vellmora_measures(vellmora: Plan) -> None:
 
 def test_vellmora_scenarios(vellmora: Plan) -> None:
     assert len(vellmora.scenarios) >= 4
-    rwc = vellmora.scenario("Reasonable worst case")
-    assert (rwc.transmissibility_level, rwc.severity_level) == ("high", "high")
-    assert set(rwc.interventions) == {m.name for m in vellmora.interventions}
-    central = vellmora.scenario("Central planning case")
+    fast = vellmora.scenario("Fast spread, severe, all measures")
+    assert (fast.transmissibility_level, fast.severity_level) == ("high", "high")
+    assert set(fast.interventions) == {m.name for m in vellmora.interventions}
+    central = vellmora.scenario("Central figures, three measures")
     assert (central.transmissibility_level, central.severity_level) == ("central", "central")
     assert set(central.interventions) == {
         "Schools closed", "Distancing advice", "Vaccine programme"}
-    milder = vellmora.scenario("Milder wave")
-    assert (milder.transmissibility_level, milder.severity_level) == ("low", "low")
-    assert milder.interventions == ("Isolation of cases",)
-    vaccine = vellmora.scenario("Vaccine only")
+    slow = vellmora.scenario("Slow spread, mild, isolation only")
+    assert (slow.transmissibility_level, slow.severity_level) == ("low", "low")
+    assert slow.interventions == ("Isolation of cases",)
+    vaccine = vellmora.scenario("Central figures, vaccine only")
     assert (vaccine.transmissibility_level, vaccine.severity_level) == ("central", "central")
     assert vaccine.interventions == ("Vaccine programme",)
 
@@ -375,8 +375,8 @@ def test_tamsett_uses_doubling_time(tamsett: Plan) -> None:
     assert d.r0 is None and d.growth_rate_per_day is None
     assert d.doubling_time_days == Range3(low=3.5, central=4.5, high=6.0)
     # High transmissibility means the shortest doubling time (the Low column).
-    assert tamsett.scenario("Fast spread").transmissibility_level == "high"
-    assert tamsett.scenario("Slow spread").transmissibility_level == "low"
+    assert tamsett.scenario("Fast spread, severe, both measures").transmissibility_level == "high"
+    assert tamsett.scenario("Slow spread, mild, isolation only").transmissibility_level == "low"
 
 
 def test_tamsett_small_hospital_and_letter_paper(tamsett: Plan) -> None:
@@ -412,11 +412,16 @@ def test_committed_workbooks_read_back_as_the_plans(filename: str, maker: str) -
     assert dataclasses.replace(got, source=expected.source) == expected
 
 
-def test_build_writes_both_workbooks(tmp_path: Path) -> None:
+def test_build_rebuilds_the_committed_workbooks_byte_for_byte(
+        tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     pytest.importorskip("prepkit.workbook.template")
+    # The document date main() sets, so the bytes depend on the plans alone.
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", str(build.SAMPLE_DATE_EPOCH))
     written = build.build(tmp_path)
     assert [p.name for p in written] == ["vellmora_city.xlsx", "tamsett_hollow.xlsx"]
-    assert all(p.stat().st_size > 0 for p in written)
+    for path in written:
+        # Regenerate with build_samples.py when this fails after a change to the plans.
+        assert path.read_bytes() == (SCRIPT.parent / path.name).read_bytes(), path.name
 
 
 @pytest.mark.slow
@@ -424,7 +429,7 @@ def test_vellmora_tells_the_planning_story(vellmora: Plan) -> None:
     engine = pytest.importorskip("prepkit.engine")
     results = engine.run_plan(dataclasses.replace(vellmora, details=dataclasses.replace(
         vellmora.details, draws=0)))
-    worst = results["Reasonable worst case"]
+    worst = results["Fast spread, severe, all measures"]
     ward, icu = worst.with_interventions.metrics.ward, worst.with_interventions.metrics.icu
     # Demand exceeds the beds for weeks; surge beds help but do not close the gap.
     assert ward.days_over_capacity_days >= 21 and icu.days_over_capacity_days >= 21
@@ -434,9 +439,20 @@ def test_vellmora_tells_the_planning_story(vellmora: Plan) -> None:
     assert worst.effect.ward_peak_reduction_share is not None
     assert worst.effect.ward_peak_reduction_share > 0.30
     assert worst.effect.ward_peak_delay_days is not None and worst.effect.ward_peak_delay_days > 0
-    central = results["Central planning case"].effect
+    central = results["Central figures, three measures"].effect
     assert central.ward_peak_reduction_share is not None
     assert central.ward_peak_reduction_share > 0.20
-    # The milder wave stays within the beds available to it, without surge.
-    milder = results["Milder wave"].with_interventions.metrics
+    # The slow, mild wave stays within the beds available to it, without surge.
+    milder = results["Slow spread, mild, isolation only"].with_interventions.metrics
     assert milder.ward.days_over_capacity_days == 0 and milder.icu.days_over_capacity_days == 0
+    # The pack calls hardest the scenario with the most unmet ward plus ICU bed-days with its
+    # measures: the vaccine alone, at central figures, leaves more unmet than every measure
+    # at fast spread and high severity. Its name says so; no description claims otherwise.
+    unmet = {name: (r.with_interventions.metrics.ward.unmet_bed_days
+                    + r.with_interventions.metrics.icu.unmet_bed_days)
+             for name, r in ((s.name, results[s.name]) for s in vellmora.scenarios)}
+    assert max(unmet, key=unmet.__getitem__) == "Central figures, vaccine only"
+    # Without measures the fast, severe scenario is the largest wave, as its name says.
+    peaks = {s.name: results[s.name].without_interventions.metrics.ward.peak_demand_beds
+             for s in vellmora.scenarios}
+    assert max(peaks, key=peaks.__getitem__) == "Fast spread, severe, all measures"

@@ -166,3 +166,13 @@ def test_instructions_mention_shares_dates_blanks_and_the_caution() -> None:
     assert "Low or High" in text
     assert "not a forecast" in schema.INSTRUCTIONS_CAUTION
     assert "local health authority" in schema.INSTRUCTIONS_CAUTION
+
+
+def test_measure_dates_say_which_days_are_in_force() -> None:
+    # The model starts a measure at the start of its start date and lifts it at the end of
+    # its end date (checked against runs in tests/test_samples_story.py).
+    assert "first day in force" in FIELDS_BY_NAME["measure.start_date"].help
+    assert "the last day in force" in FIELDS_BY_NAME["measure.end_date"].help
+    purpose = SHEET_PURPOSE[schema.MEASURES]
+    assert "start date is the first day in force" in purpose
+    assert "end date the last day in force" in purpose

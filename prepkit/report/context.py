@@ -344,7 +344,7 @@ def every_one(count: int, singular: str, plural: str) -> str:
 
 
 def quoted(name: str) -> str:
-    """A scenario or measure name in typographic quotes: “Milder wave”."""
+    """A scenario or measure name in typographic quotes: “Slow spread, mild, isolation only”."""
     return f"\u201c{name}\u201d"
 
 
@@ -2457,7 +2457,7 @@ def drivers_sentence(name: str, tornado: pd.DataFrame, top: int = 3) -> str:
     Returns
     -------
     str
-        E.g. "In “Central planning case” the ICU peak depends most on R0 (22
+        E.g. "In “Central figures, three measures” the ICU peak depends most on R0 (22
         to 117 beds across its range), then ..."; ``""`` when no input moves
         it.
     """

@@ -125,7 +125,8 @@ SHEET_PURPOSE: dict[str, str] = {
     WORKFORCE: "Inputs for estimating staff absence from illness and school closures.",
     MEASURES: (
         "One row per measure: fewer contacts (school closure, distancing), vaccination, or "
-        "isolation of cases; when it starts and ends, and how well it is followed."
+        "isolation of cases; when it starts and ends (a start date is the first day in force, "
+        "an end date the last day in force), and how well it is followed."
     ),
     SCENARIOS: (
         "One row per scenario: which transmissibility and severity level, and which measures. "
@@ -275,6 +276,9 @@ TABLES: dict[str, Table] = {
 
 _BAND_KEY_HELP = "Band label exactly as on the Population sheet."
 
+#: Said of a default that no published source supports as such.
+TYPICAL_VALUE = "typical value; replace with your health authority's figure"
+
 FIELDS: tuple[Field, ...] = (
     # ---- Plan details -------------------------------------------------------------------
     Field(name="details.jurisdiction", sheet=PLAN, label="Jurisdiction", unit="", type="text",
@@ -319,15 +323,16 @@ FIELDS: tuple[Field, ...] = (
     # ---- Mixing (simple form) -----------------------------------------------------------
     Field(name="mixing.assortativity", sheet=MIXING, label="Contacts within own band",
           unit="%", type="share", default=0.5,
-          help="Share of each person's contacts reserved for their own band; the rest mix in "
+          help="Share of each person's contacts kept for their own band; the rest mix in "
                "proportion to activity (preferential mixing). Used only when the contact "
-               "matrices are blank. Default 50% (common practice, no source)."),
+               "matrices are blank. Default 50%: " + TYPICAL_VALUE + "."),
     Field(name="band_contacts.band", sheet=MIXING, table="band_contacts", label="Band",
           unit="", type="text", required=True, help=_BAND_KEY_HELP),
     Field(name="band_contacts.mean_daily", sheet=MIXING, table="band_contacts",
           label="Daily contacts", unit="per day", type="number", minimum=0, maximum=500,
           help="Mean number of people a person in this band meets each day, all settings. "
-               "A survey of 8 countries found 13.4 on average (Mossong et al. 2008)."),
+               "A diary survey in 8 European countries found 13.4 on average (Mossong et al. "
+               "2008, PLoS Med 5:e74)."),
     Field(name="band_contacts.home_share", sheet=MIXING, table="band_contacts",
           label="At home", unit="%", type="share", default=0.0,
           help="Share of the band's contacts made at home."),
@@ -355,17 +360,18 @@ FIELDS: tuple[Field, ...] = (
     Field(name="disease.latent_stages", sheet=DISEASE, label="Latent period stages", unit="",
           type="integer", minimum=1, maximum=10, default=2,
           help="Shape of the latent period: 1 = very variable (exponential); more stages = "
-               "more regular. Default 2 (common practice, no source)."),
+               "more regular. Default 2: " + TYPICAL_VALUE + "."),
     Field(name="disease.infectious_period_days", sheet=DISEASE, label="Infectious period",
           unit="days", type="number", minimum=0.1, maximum=60, required=True, uncertain=True,
           help="Mean time a person stays infectious."),
     Field(name="disease.infectious_stages", sheet=DISEASE, label="Infectious period stages",
           unit="", type="integer", minimum=1, maximum=10, default=2,
-          help="Shape of the infectious period, as for the latent period."),
+          help="Shape of the infectious period, as for the latent period. Default 2: "
+               + TYPICAL_VALUE + "."),
     Field(name="disease.asymptomatic_relative_infectiousness", sheet=DISEASE,
           label="Infectiousness without symptoms", unit="%", type="share", default=0.5,
           help="How infectious a person without symptoms is, compared with one with "
-               "symptoms. Default 50% (from memory)."),
+               "symptoms. Default 50%: " + TYPICAL_VALUE + "."),
     Field(name="disease.seasonal_amplitude", sheet=DISEASE, label="Seasonal swing", unit="%",
           type="share", maximum=0.9, default=0.0,
           help="How much transmission rises above (and falls below) its average over the "
@@ -375,7 +381,8 @@ FIELDS: tuple[Field, ...] = (
                             "when the seasonal swing is above 0%."),
     Field(name="disease.initial_infections", sheet=DISEASE, label="Initial infections",
           unit="persons", type="number", minimum=0, maximum=1e8, default=10.0,
-          help="People newly infected on day 0, spread across bands by population."),
+          help="People newly infected on day 0, spread across bands by population. "
+               "Default 10: " + TYPICAL_VALUE + "."),
     Field(name="disease.daily_importations", sheet=DISEASE, label="Infections from outside",
           unit="per day", type="number", minimum=0, maximum=1e6, default=0.0,
           help="Residents infected elsewhere each day (travel), spread by population."),
@@ -384,7 +391,10 @@ FIELDS: tuple[Field, ...] = (
           unit="", type="text", required=True, help=_BAND_KEY_HELP),
     Field(name="band_disease.symptomatic_share", sheet=DISEASE_BY_AGE, table="band_disease",
           label="With symptoms", unit="%", type="share", default=0.67, uncertain=True,
-          help="Share of infections that cause symptoms. Default 67% (from memory)."),
+          help="Share of infections that cause symptoms. Default 67%, the share with "
+               "symptoms in influenza challenge studies of healthy adults (Carrat et al. 2008, "
+               "Am J Epidemiol 167:775); replace with your health authority's figure for this "
+               "disease."),
     Field(name="band_disease.relative_susceptibility", sheet=DISEASE_BY_AGE,
           table="band_disease", label="Relative susceptibility", unit="ratio", type="number",
           minimum=0, maximum=10, default=1.0,
@@ -395,13 +405,16 @@ FIELDS: tuple[Field, ...] = (
     # ---- Severity -----------------------------------------------------------------------
     Field(name="severity.admission_delay_stages", sheet=SEVERITY,
           label="Onset-to-admission stages", unit="", type="integer", minimum=1, maximum=10,
-          default=1, help="Shape of the delay from symptoms to admission (1 = exponential)."),
+          default=1, help="Shape of the delay from symptoms to admission (1 = exponential). "
+                          "Default 1: " + TYPICAL_VALUE + "."),
     Field(name="severity.ward_stages", sheet=SEVERITY, label="Ward stay stages", unit="",
           type="integer", minimum=1, maximum=10, default=2,
-          help="Shape of the ward length of stay (1 = exponential; 2 or 3 is typical)."),
+          help="Shape of the ward length of stay (1 = exponential; more stages = more "
+               "regular). Default 2: " + TYPICAL_VALUE + "."),
     Field(name="severity.icu_stages", sheet=SEVERITY, label="ICU stay stages", unit="",
           type="integer", minimum=1, maximum=10, default=2,
-          help="Shape of the ICU length of stay."),
+          help="Shape of the ICU length of stay, as for the ward. Default 2: "
+               + TYPICAL_VALUE + "."),
     Field(name="band_severity.band", sheet=SEVERITY, table="band_severity", label="Band",
           unit="", type="text", required=True, help=_BAND_KEY_HELP),
     Field(name="band_severity.admitted_share", sheet=SEVERITY, table="band_severity",
@@ -442,16 +455,17 @@ FIELDS: tuple[Field, ...] = (
     Field(name="capacity.ventilated_icu_share", sheet=HOSPITALS,
           label="ICU patients needing a ventilator", unit="%", type="share", default=0.5,
           help="Share of outbreak ICU patients on mechanical ventilation on any day. Default "
-               "50%: in the US HHS Pandemic Influenza Plan (2005), Table 1, 7.5% of "
-               "hospitalised patients need ventilation and 15% need ICU care."),
+               "50%: 7.5% of hospitalised patients need ventilation and 15% need ICU care "
+               "(US HHS Pandemic Influenza Plan 2005, Table 1)."),
     Field(name="capacity.ward_baseline_occupancy", sheet=HOSPITALS,
           label="Ward beds used by other patients", unit="%", type="share", default=0.85,
           help="Share of ward beds filled by patients without this disease. Default 85%: "
-               "above this, risk rises (Bagust, Place & Posnett 1999)."),
+               "above this mean occupancy, the risk of finding no bed for an emergency "
+               "admission rises (Bagust, Place & Posnett 1999, BMJ 319:155)."),
     Field(name="capacity.icu_baseline_occupancy", sheet=HOSPITALS,
           label="ICU beds used by other patients", unit="%", type="share", default=0.68,
-          help="Share of ICU beds filled by other patients. Default 68%, a published adult "
-               "ICU mean (Wunsch et al. 2013)."),
+          help="Share of ICU beds filled by other patients. Default 68%, the mean occupancy "
+               "of 97 US ICUs in 2005-2007 (Wunsch et al. 2013, Crit Care Med 41:2712)."),
     Field(name="capacity.surge_ward_beds", sheet=HOSPITALS, label="Surge ward beds",
           unit="beds", type="integer", minimum=0, maximum=1_000_000, default=0,
           help="Extra ward beds that can be opened under the surge plan."),
@@ -460,11 +474,12 @@ FIELDS: tuple[Field, ...] = (
           help="Extra ICU beds that can be opened under the surge plan."),
     Field(name="capacity.surge_days_to_open", sheet=HOSPITALS, label="Days to open surge beds",
           unit="days", type="number", minimum=0, maximum=90, default=7.0,
-          help="Days from the surge trigger until surge beds can take patients."),
+          help="Days from the surge trigger until surge beds can take patients. Default 7: "
+               + TYPICAL_VALUE + "."),
     Field(name="capacity.surge_trigger_occupancy", sheet=HOSPITALS,
           label="Surge trigger", unit="%", type="share", default=0.85,
           help="When outbreak patients fill this share of the beds available to them, the "
-               "surge beds start to open."),
+               "surge beds start to open. Default 85%: " + TYPICAL_VALUE + "."),
     Field(name="capacity.catchment_share", sheet=HOSPITALS,
           label="Residents' admissions to these hospitals", unit="%", type="share",
           minimum=0.01, default=1.0,
@@ -472,23 +487,23 @@ FIELDS: tuple[Field, ...] = (
     # ---- Workforce ----------------------------------------------------------------------
     Field(name="workforce.working_age_min", sheet=WORKFORCE, label="Youngest working age",
           unit="years", type="integer", minimum=10, maximum=100, default=18,
-          help="Youngest age counted in the workforce (default 18, common practice, no "
-               "source)."),
+          help="Youngest age counted in the workforce. Default 18: " + TYPICAL_VALUE + "."),
     Field(name="workforce.working_age_max", sheet=WORKFORCE, label="Oldest working age",
           unit="years", type="integer", minimum=10, maximum=100, default=64,
-          help="Oldest age counted in the workforce (default 64, common practice, no source)."),
+          help="Oldest age counted in the workforce. Default 64: " + TYPICAL_VALUE + "."),
     Field(name="workforce.employed_share", sheet=WORKFORCE,
           label="Working-age people in work", unit="%", type="share", default=0.75,
-          help="Share of working-age residents in paid work (default 75%, from memory)."),
+          help="Share of working-age residents in paid work. Default 75%: " + TYPICAL_VALUE
+               + "."),
     Field(name="workforce.days_absent_per_illness", sheet=WORKFORCE,
           label="Days off per illness", unit="days", type="number", minimum=0, maximum=60,
-          default=5.0, help="Working days lost per symptomatic illness (default 5, from "
-                            "memory)."),
+          default=5.0, help="Working days lost per symptomatic illness. Default 5: "
+                            + TYPICAL_VALUE + "."),
     Field(name="workforce.carer_share_school_closure", sheet=WORKFORCE,
           label="Workers caring for children when schools close", unit="%", type="share",
           default=0.1,
-          help="Share of workers who must stay home while schools are closed (default 10%, "
-               "from memory)."),
+          help="Share of workers who must stay home while schools are closed. Default 10%: "
+               + TYPICAL_VALUE + "."),
     # ---- Measures -----------------------------------------------------------------------
     Field(name="measure.name", sheet=MEASURES, table="measures", label="Measure", unit="",
           type="text", required=True, help="A short unique name, used on the Scenarios sheet."),
@@ -500,7 +515,7 @@ FIELDS: tuple[Field, ...] = (
           unit="", type="choice", choices=START_CHOICES, default="On a date",
           help="Start on a date, or when a level is reached (checked once a day).", width=22),
     Field(name="measure.start_date", sheet=MEASURES, table="measures", label="Start date",
-          unit="date", type="date", help="For 'On a date'."),
+          unit="date", type="date", help="For 'On a date': the first day in force."),
     Field(name="measure.start_level", sheet=MEASURES, table="measures", label="Start level",
           unit="% or per day", type="number", minimum=0,
           help="For occupancy: share of the beds available to outbreak patients (e.g. 80%). "
@@ -509,10 +524,13 @@ FIELDS: tuple[Field, ...] = (
           type="choice", choices=END_CHOICES, default="At the horizon",
           help="When the measure stops.", width=22),
     Field(name="measure.end_date", sheet=MEASURES, table="measures", label="End date",
-          unit="date", type="date", help="For 'On a date'."),
+          unit="date", type="date",
+          help="For 'On a date': the last day in force; the measure stops at the midnight "
+               "that follows (2027-05-31 means in force up to and including 31 May)."),
     Field(name="measure.duration_days", sheet=MEASURES, table="measures", label="Lasts",
           unit="days", type="number", minimum=1, maximum=730,
-          help="For 'After a number of days': days from its start."),
+          help="For 'After a number of days': days in force, the day it starts counted as "
+               "the first (56 = eight weeks)."),
     Field(name="measure.release_level", sheet=MEASURES, table="measures",
           label="Release level", unit="% or per day", type="number", minimum=0,
           help="For 'When the level falls to': lift the measure when the level it started on "
@@ -544,13 +562,16 @@ FIELDS: tuple[Field, ...] = (
                "least the efficacy against infection."),
     Field(name="measure.days_to_protection", sheet=MEASURES, table="measures",
           label="Days to protection", unit="days", type="number", minimum=0, maximum=90,
-          default=14.0, help="For vaccination: mean days from the dose to protection."),
+          default=14.0, help="For vaccination: mean days from the dose to protection. "
+                             "Default 14: " + TYPICAL_VALUE + "."),
     Field(name="measure.isolated_share", sheet=MEASURES, table="measures",
           label="Cases isolated", unit="%", type="share",
           help="For isolation: share of people with symptoms who isolate."),
     Field(name="measure.days_from_onset", sheet=MEASURES, table="measures",
           label="Days from onset to isolation", unit="days", type="number", minimum=0,
-          maximum=30, default=1.0, help="For isolation: mean delay after symptoms begin."),
+          maximum=30, default=1.0,
+          help="For isolation: mean delay after symptoms begin. Default 1: " + TYPICAL_VALUE
+               + "."),
     Field(name="measure.compliance", sheet=MEASURES, table="measures", label="Compliance",
           unit="%", type="share", default=1.0, uncertain=True,
           help="Share of the full effect actually achieved."),
