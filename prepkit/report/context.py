@@ -134,8 +134,8 @@ CAUTION_LINE = (
 )
 #: What the death figures count, said on the leader page.
 DEATHS_NOTE = (
-    "Deaths here are deaths among hospital patients, counted as if every patient who needs a "
-    "bed gets one: running short of beds does not change them in these figures."
+    "The deaths in this pack are deaths among hospital patients, counted as if every patient "
+    "who needs a bed gets one: running short of beds does not change them here."
 )
 DECISIONS_LINE = (
     "Decisions rest with the local health authority and with licensed clinical practice."
@@ -326,12 +326,26 @@ def format_percent(share: float | None, *, missing: str = "n/a") -> str:
     return f"{pct:.1f}%"
 
 
-def beds_phrase(value: float) -> str:
-    """Whole beds with their noun: ``1 bed``, ``33 beds``, ``less than one bed``."""
+def beds_phrase(value: float, kind: str = "") -> str:
+    """Whole beds with their noun: ``1 bed``, ``33 ICU beds``, ``less than one ward bed``.
+
+    Parameters
+    ----------
+    value : float
+        Beds [beds].
+    kind : str, optional
+        A word before the noun (``ward``, ``ICU``).
+
+    Returns
+    -------
+    str
+        The phrase.
+    """
     whole = round(value)
+    noun = f"{kind} bed".strip()
     if whole == 0:
-        return "no beds" if abs(value) < 1e-9 else "less than one bed"
-    return "1 bed" if whole == 1 else f"{whole:,} beds"
+        return f"no {noun}s" if abs(value) < 1e-9 else f"less than one {noun}"
+    return f"1 {noun}" if whole == 1 else f"{whole:,} {noun}s"
 
 
 def every_one(count: int, singular: str, plural: str) -> str:
@@ -985,8 +999,8 @@ def scenario_brief(view: ScenarioView) -> str:
     if not parts:
         parts.append(
             f"Demand stays within the available beds: peaks of "
-            f"{format_number(m.ward.peak_demand_beds, words=True)} ward and "
-            f"{format_number(m.icu.peak_demand_beds, words=True)} ICU beds."
+            f"{beds_phrase(m.ward.peak_demand_beds, 'ward')} and "
+            f"{beds_phrase(m.icu.peak_demand_beds, 'ICU')}."
         )
     if view.item.scenario.interventions:
         change = _peak_change(
