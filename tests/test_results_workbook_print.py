@@ -241,3 +241,18 @@ def test_libreoffice_prints_the_summary_on_at_most_two_pages(built: Built,
     first = pages[summary[0]]
     assert "Ward peak" in first and "Tamsett Hollow" in first  # titles and page header printed
     assert "Residents" in first  # the last column is on the page: one page wide
+
+
+def test_letter_paper_and_an_empty_inputs_table(built: Built) -> None:
+    plan = dataclasses.replace(
+        built.plan,
+        details=dataclasses.replace(built.plan.details, page_size="Letter"),
+        source=dataclasses.replace(built.plan.source, inputs=()),
+    )
+    wb = openpyxl.load_workbook(io.BytesIO(rw.results_workbook_bytes(
+        plan, built.results, version="9.9", generated=WHEN)))
+    assert {str(ws.page_setup.paperSize) for ws in wb.worksheets} == {"1"}  # 1 = Letter
+    inputs = wb["Inputs"]
+    (table,) = inputs.tables.values()
+    assert table.ref == "A1:F2"  # a table keeps one (empty) row below its header
+    assert inputs.print_area == "'Inputs'!$A$1:$F$1"
