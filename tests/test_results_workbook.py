@@ -253,7 +253,7 @@ def test_every_figure_is_where_the_column_guide_says_in_summary_json(built: Buil
 def test_the_uncertainty_sheet_names_its_percentiles_in_words(built: Built) -> None:
     ws = built.book()["Uncertainty"]
     assert _header(ws, 3)[5:] == ["Mean", "2.5th percentile", "Median", "90th percentile",
-                                  "Single scenario run"]
+                                  "Central run"]
     metrics = {ws.cell(r, 4).value for r in range(4, ws.max_row + 1)}
     assert metrics == {m.label for m in METRIC_ROWS}
     assert {m.name for m in METRIC_ROWS} == set(SUMMARY_METRICS)

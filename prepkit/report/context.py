@@ -2255,10 +2255,11 @@ def _spread_cells(central: float, row: Any, q_low: str, q_mid: str, q_high: str)
 #: Said where the central run's figures meet the ensemble's (uncertainty page).
 HEADLINE_POLICY = (
     "Every figure outside this section comes from the central run: one run of each scenario "
-    "with every uncertain input at its Central value. The table below puts that run beside "
-    "the median and the range of the {draws} runs. The two need not agree: outcomes do not "
-    "respond evenly to the inputs (a little faster spread raises a peak more than a little "
-    "slower spread lowers it), so the middle of the runs can sit above or below the central run."
+    "at its own transmissibility and severity levels, with every other input at its Central "
+    "value. The table below puts that run beside the median and the range of the {draws} "
+    "runs. The two need not agree: the runs draw each input from around its level (a High "
+    "level from Central to High), and outcomes do not respond evenly to the inputs, so the "
+    "middle of the runs can sit above or below the central run."
 )
 
 

@@ -105,9 +105,9 @@ def uncertainty_columns(quantiles: tuple[float, ...]) -> SheetColumns:
                    f"{100 * q:g}% of the plausible futures are at or below this figure.")
             for q in quantiles
         ),
-        column("Single scenario run", "scenario_run", "unit of the metric", BY_ROW,
-               "The scenario run once with every input at its workbook value (as on the Summary "
-               "sheet).", 12),
+        column("Central run", "scenario_run", "unit of the metric", BY_ROW,
+               "The central run: the scenario run once at its own levels, every other input at "
+               "its Central value (as on the Summary sheet and in the briefing pack).", 12),
     ]
     return SheetColumns(sheet="Uncertainty", file="summary.json",
                         prefix=f"{ENSEMBLE_RECORD}.summary.<metric>",
