@@ -10,7 +10,7 @@ import pytest
 from factories import banded_plan
 
 from prepkit.engine import run_plan
-from prepkit.report import charts
+from prepkit.report import charts, charts_base
 from prepkit.report import context as words
 from prepkit.report.safety import AssetFetcher
 
@@ -99,7 +99,7 @@ def test_month_ticks_carry_the_year_on_the_first_and_on_january() -> None:
 
     fig = Figure()
     ax = fig.subplots()
-    charts._date_axis(ax, (dt.date(2026, 11, 20), dt.date(2027, 3, 10)))
+    charts_base.date_axis(ax, (dt.date(2026, 11, 20), dt.date(2027, 3, 10)))
     labels = [ax.xaxis.get_major_formatter()(v, i)
               for i, v in enumerate(ax.xaxis.get_major_locator()())]
     assert labels == ["Dec\n2026", "Jan\n2027", "Feb", "Mar"]
