@@ -5,11 +5,13 @@ page (vector, so it prints sharply), PNG for slides, an alternate text
 written from the data (by the functions of :mod:`prepkit.report.context`)
 and a caption.
 
-The charts are drawn in four modules; this one lists them as jobs, in the
+The charts are drawn in five modules; this one lists them as jobs, in the
 order of the pack, and is the one to import:
 
 * :mod:`prepkit.report.charts_base`: the drawn chart, drawing and saving,
-  the dates shown, axes that fit everything drawn on them;
+  date axes, and limits that hold everything drawn on the axes
+  (:func:`~prepkit.report.charts_base.fit_limits`);
+* :mod:`prepkit.report.charts_windows`: the dates each chart shows;
 * :mod:`prepkit.report.charts_beds`: bed demand per scenario, when beds
   run short;
 * :mod:`prepkit.report.charts_compare`: daily admissions, totals and
@@ -25,16 +27,21 @@ from typing import Any
 
 from prepkit.plan import Plan
 from prepkit.report import context as words
-from prepkit.report.charts_base import PNG_DPI, Chart, chart_window, render_chart
-from prepkit.report.charts_beds import demand_chart, gap_chart, gap_window
+from prepkit.report.charts_base import PNG_DPI, Chart, render_chart
+from prepkit.report.charts_beds import demand_chart, gap_chart
 from prepkit.report.charts_compare import absence_chart, admissions_chart, outcomes_chart
 from prepkit.report.charts_uncertainty import (
     band_chart,
     ensemble_of,
     exceedance_chart,
-    exceedance_window,
     peak_date_chart,
     tornado_chart,
+)
+from prepkit.report.charts_windows import (
+    chart_window,
+    ensemble_window,
+    exceedance_window,
+    gap_window,
 )
 from prepkit.report.style import PageSize
 
@@ -49,6 +56,7 @@ __all__ = [
     "demand_chart",
     "draw_charts",
     "draw_uncertainty_charts",
+    "ensemble_window",
     "exceedance_chart",
     "exceedance_window",
     "gap_chart",
@@ -92,7 +100,8 @@ def uncertainty_chart_jobs(
     if uncertainty is None or not getattr(uncertainty, "scenarios", ()) or not views:
         return []
     size: PageSize = page_size or plan.details.page_size
-    window = chart_window(views)
+    # The ensemble's late futures widen the window of the other charts.
+    window = ensemble_window(views, uncertainty, chart_window(views))
     gaps = exceedance_window(views, uncertainty, window)
     jobs: list[Callable[[], Chart]] = [
         lambda: exceedance_chart(views, uncertainty, gaps, size),

@@ -16,10 +16,10 @@ from prepkit.report import context as words
 from prepkit.report.charts_base import (
     SHORT_FILL,
     STILL_SHORT_FILL,
-    TAIL_DAYS,
     Chart,
     beds_axis,
     date_axis,
+    fit_limits,
     plot_series,
     render_chart,
     window_slice,
@@ -27,7 +27,7 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
 
-__all__ = ["demand_chart", "gap_chart", "gap_window"]
+__all__ = ["demand_chart", "gap_chart"]
 
 # ---- Bed demand, one chart per scenario ----------------------------------------------------------
 
@@ -47,7 +47,7 @@ def demand_chart(
     view : ScenarioView
         The scenario.
     window : tuple of datetime.date
-        Dates shown (:func:`chart_window`).
+        Dates shown (:func:`prepkit.report.charts_windows.chart_window`).
     page_size : {"A4", "Letter"}
         Paper size of the pack.
 
@@ -111,6 +111,7 @@ def demand_chart(
             ax.set_title(title, loc="left", fontweight="bold")
             ax.set_ylabel("Beds")
             beds_axis(ax)
+            fit_limits([ax], "y")
             date_axis(ax, window)
         handles, labels = axes[0].get_legend_handles_labels()
         more_h, more_l = axes[1].get_legend_handles_labels()
@@ -262,28 +263,5 @@ def gap_chart(
         svg=svg,
         png=png,
     )
-
-
-def gap_window(
-    views: Sequence[words.ScenarioView], window: tuple[dt.date, dt.date]
-) -> tuple[dt.date, dt.date]:
-    """Dates shown on the capacity-gap timeline: day 0 to four weeks after the last gap.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    window : tuple of datetime.date
-        The window of the other charts, used when no scenario runs short.
-
-    Returns
-    -------
-    tuple of datetime.date
-        First and last day shown, inside ``window``.
-    """
-    ends = [p.end for v in views for p in (*v.ward_periods, *v.icu_periods)]
-    if not ends:
-        return window
-    return window[0], min(window[1], max(ends) + dt.timedelta(days=TAIL_DAYS))
 
 

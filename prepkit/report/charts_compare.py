@@ -18,6 +18,7 @@ from prepkit.report.charts_base import (
     Chart,
     beds_axis,
     date_axis,
+    fit_limits,
     plot_series,
     render_chart,
     tick_number,
@@ -88,6 +89,8 @@ def admissions_chart(
             date_axis(ax, window)
         for ax in flat[len(views):]:
             ax.set_visible(False)
+        # One scale for every panel, from the largest series of any of them.
+        fit_limits(list(flat[: len(views)]), "y")
         for ax in axes[:, 0]:
             ax.set_ylabel("Admissions per day")
         handles: list[Any] = []
@@ -220,7 +223,7 @@ def absence_chart(
                          100.0 * daily["absence_share"].to_numpy(dtype=np.float64), i,
                          wrap_label(view.name, 40))
         ax.set_ylabel("Workers absent [%]")
-        ax.set_ylim(bottom=0)
+        fit_limits([ax], "y")
         ax.yaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _p: f"{v:g}%"))
         date_axis(ax, window)
         fig.legend(loc="outside lower center", ncols=2, fontsize=8.5)

@@ -10,16 +10,16 @@ from typing import Any
 import matplotlib
 import matplotlib.dates as mdates
 import numpy as np
+import pandas as pd
 from matplotlib.figure import Figure
 
 from prepkit.report import context as words
 from prepkit.report.charts_base import (
-    TAIL_DAYS,
     WITH_STYLE,
     Chart,
-    as_day,
     beds_axis,
     date_axis,
+    fit_limits,
     plot_series,
     render_chart,
     window_slice,
@@ -28,14 +28,15 @@ from prepkit.report.charts_base import (
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size, series_style
 
 __all__ = [
+    "BAR_DAYS",
     "BAND_FILL",
     "TORNADO_TOP",
     "band_chart",
     "ensemble_of",
     "exceedance_chart",
-    "exceedance_window",
     "peak_date_chart",
     "tornado_chart",
+    "weekly_peak_shares",
 ]
 
 BAND_FILL = "#A6D2F0"
@@ -77,7 +78,7 @@ def band_chart(
     uncertainty : prepkit.uncertainty.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
-        Dates shown.
+        Dates shown (:func:`prepkit.report.charts_windows.ensemble_window`).
     page_size : {"A4", "Letter"}
         Paper size of the pack.
 
@@ -111,6 +112,7 @@ def band_chart(
                 ax.set_title(f"{wrap_label(view.name, 34)}: {title}" if col == 0 else title,
                              loc="left", fontsize=8.5, fontweight="bold")
                 beds_axis(ax)
+                fit_limits([ax], "y")
                 date_axis(ax, window)
                 ax.tick_params(labelsize=7.5)
             axes[row, 0].set_ylabel("Beds", fontsize=8)
@@ -150,7 +152,7 @@ def exceedance_chart(
     uncertainty : prepkit.uncertainty.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
-        Dates shown.
+        Dates shown (:func:`prepkit.report.charts_windows.exceedance_window`).
     page_size : {"A4", "Letter"}
         Paper size of the pack.
 
@@ -199,6 +201,32 @@ def exceedance_chart(
     )
 
 
+#: Width of a week's bar on the peak-date chart [days]; a gap of a day parts the weeks.
+BAR_DAYS = 6.0
+
+
+def weekly_peak_shares(result: Any) -> pd.Series:
+    """Share of futures whose ICU demand peaks in each week, for the weeks holding a peak.
+
+    Parameters
+    ----------
+    result : prepkit.uncertainty.EnsembleResult
+        One scenario's ensemble.
+
+    Returns
+    -------
+    pandas.Series
+        Share of draws [fraction], indexed by the first day of each week
+        (weeks counted from day 0); weeks without a peak are left out.
+    """
+    counts = result.peak_date_histogram["icu_demand_peak_draws_count"]
+    total = float(counts.sum())
+    if total <= 0:
+        return pd.Series(dtype=np.float64)
+    weekly = counts.resample("7D").sum()
+    return (weekly[weekly > 0] / total).astype(np.float64)
+
+
 def peak_date_chart(
     views: Sequence[words.ScenarioView],
     uncertainty: Any,
@@ -214,7 +242,7 @@ def peak_date_chart(
     uncertainty : prepkit.uncertainty.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
-        Dates shown.
+        Dates shown (:func:`prepkit.report.charts_windows.ensemble_window`).
     page_size : {"A4", "Letter"}
         Paper size of the pack.
 
@@ -230,12 +258,10 @@ def peak_date_chart(
     def draw(fig: Figure) -> None:
         axes = np.atleast_1d(fig.subplots(len(shown), 1, sharex=True, squeeze=False)).ravel()
         for i, (ax, (view, result)) in enumerate(zip(axes, shown, strict=True)):
-            counts = result.peak_date_histogram["icu_demand_peak_draws_count"]
-            total = float(counts.sum())
-            weekly = counts.resample("7D").sum() if total > 0 else counts.iloc[:0]
+            weekly = weekly_peak_shares(result)
             style = series_style(i)
-            if total > 0:
-                ax.bar(weekly.index.to_numpy(), 100.0 * weekly.to_numpy() / total, width=6.0,
+            if len(weekly):
+                ax.bar(weekly.index.to_numpy(), 100.0 * weekly.to_numpy(), width=BAR_DAYS,
                        align="edge", color=style.color, edgecolor=CSS_COLORS["ink"],
                        linewidth=0.4)
                 median = words.as_date(result.peak_dates.loc["icu_demand", q_mid])
@@ -244,7 +270,7 @@ def peak_date_chart(
                                linestyle=(0, (4, 2)))
             ax.set_title(wrap_label(view.name, 70), loc="left", fontsize=8.5, fontweight="bold")
             ax.set_ylabel("%", fontsize=8)
-            ax.set_ylim(bottom=0)
+            fit_limits([ax], "y")
             ax.tick_params(labelsize=7.5)
             date_axis(ax, window)
 
@@ -333,40 +359,5 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
         svg=svg,
         png=png,
     )
-
-
-def exceedance_window(
-    views: Sequence[words.ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
-) -> tuple[dt.date, dt.date]:
-    """Dates shown on the exceedance chart: day 0 to four weeks after the last chance of a gap.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.UncertaintyResults
-        The ensemble.
-    window : tuple of datetime.date
-        The window of the other charts, used when no future runs short.
-
-    Returns
-    -------
-    tuple of datetime.date
-        First and last day shown, inside ``window``.
-    """
-    last: dt.date | None = None
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is None:
-            continue
-        frame = result.exceedance
-        busy = frame[(frame[["ward_exceedance_probability", "icu_exceedance_probability"]]
-                      .max(axis=1) > 0.005)]
-        if len(busy):
-            day = as_day(busy.index[-1])
-            last = max(last, day) if last else day
-    if last is None:
-        return window
-    return window[0], min(window[1], last + dt.timedelta(days=TAIL_DAYS))
 
 
