@@ -37,6 +37,7 @@ from matplotlib.text import Text
 from prepkit.report import context as words
 from prepkit.report.style import (
     OKABE_ITO,
+    PageSize,
     chart_rcparams,
     figure_bytes,
     series_style,
@@ -51,11 +52,13 @@ __all__ = [
     "SHORT_FILL",
     "STILL_SHORT_FILL",
     "TAIL_DAYS",
+    "TEXT_BLOCK_HEIGHTS_IN",
     "WITHOUT_STYLE",
     "WITH_STYLE",
     "Chart",
     "as_day",
     "beds_axis",
+    "chart_height",
     "date_axis",
     "drawn_extent",
     "fit_limits",
@@ -76,6 +79,15 @@ STILL_SHORT_FILL = OKABE_ITO["vermillion"]
 
 WITH_STYLE = series_style(0)
 WITHOUT_STYLE = series_style(1)
+
+#: Height of the text block of each paper [inches]: the page less the top and
+#: bottom margins of ``templates/pack.css`` (A4: 297 mm less 20 and 24 mm;
+#: Letter: 11 in less 0.75 and 0.95 in). tests/test_pack_layout.py keeps the
+#: two in step.
+TEXT_BLOCK_HEIGHTS_IN: dict[str, float] = {
+    "A4": (297.0 - 20.0 - 24.0) / 25.4,
+    "Letter": 11.0 - 0.75 - 0.95,
+}
 
 #: Days shown after the last busy day (and after every peak), and what counts
 #: as busy: demand of at least this share of the scenario's largest peak.
@@ -168,6 +180,28 @@ def render_chart(
         with matplotlib.rc_context({"savefig.dpi": PNG_DPI}):
             png = figure_bytes(fig, "png")
     return svg, png
+
+
+def chart_height(page_size: PageSize, a4_height_in: float) -> float:
+    """A chart's height on the pack's paper, from its height on A4 [inches].
+
+    Letter's text block is shorter than A4's (and about as wide), so charts
+    shrink with it: each page then holds on Letter what it holds on A4, a
+    scenario's findings with its chart, two charts of a comparison.
+
+    Parameters
+    ----------
+    page_size : {"A4", "Letter"}
+        Paper size of the pack.
+    a4_height_in : float
+        Height of the chart on A4 [inches].
+
+    Returns
+    -------
+    float
+        Height on ``page_size`` [inches].
+    """
+    return a4_height_in * TEXT_BLOCK_HEIGHTS_IN[page_size] / TEXT_BLOCK_HEIGHTS_IN["A4"]
 
 
 def as_day(stamp: Any) -> dt.date:

@@ -18,6 +18,7 @@ from prepkit.report.charts_base import (
     STILL_SHORT_FILL,
     Chart,
     beds_axis,
+    chart_height,
     date_axis,
     fit_limits,
     plot_series,
@@ -126,7 +127,7 @@ def demand_chart(
         )
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, width * 0.64))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, width * 0.6)))
     ward = view.with_metrics.ward
     caption = (
         f"Beds needed by outbreak patients in the {view.name} scenario. Shaded: days on which "
@@ -251,7 +252,7 @@ def gap_chart(
 
     width, _ = figure_size(page_size)
     height = min(7.5, 0.9 + 0.34 * len(rows) + 0.22 * len(views))
-    svg, png = render_chart(draw, size=(width, height))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="capacity-gap-timeline",
         title="When beds run short",

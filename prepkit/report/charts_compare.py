@@ -17,6 +17,7 @@ from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
     beds_axis,
+    chart_height,
     date_axis,
     fit_limits,
     plot_series,
@@ -104,7 +105,7 @@ def admissions_chart(
 
     width, _ = figure_size(page_size)
     height = 0.8 + 1.8 * rows
-    svg, png = render_chart(draw, size=(width, height))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="daily-admissions",
         title="Daily hospital admissions",
@@ -176,7 +177,7 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
 
     width, _ = figure_size(page_size)
     height = 1.2 + 0.55 * len(views)
-    svg, png = render_chart(draw, size=(width, max(2.4, height)))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, max(2.4, height))))
     return Chart(
         name="total-outcomes",
         title="Totals over the period",
@@ -229,7 +230,8 @@ def absence_chart(
         fig.legend(loc="outside lower center", ncols=2, fontsize=8.5)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, width * 0.42 + 0.25 * math.ceil(len(views) / 2)))
+    height = width * 0.42 + 0.25 * math.ceil(len(views) / 2)
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="workforce-absence",
         title="Workforce absence",

@@ -18,6 +18,7 @@ from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
     beds_axis,
+    chart_height,
     date_axis,
     fit_limits,
     plot_series,
@@ -121,7 +122,7 @@ def band_chart(
 
     width, _ = figure_size(page_size)
     height = min(8.6, 0.8 + 1.75 * len(shown))
-    svg, png = render_chart(draw, size=(width, height))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="uncertainty-bands",
         title="Bed demand across plausible futures",
@@ -187,7 +188,8 @@ def exceedance_chart(
         fig.legend(handles, labels, loc="outside lower center", ncols=2, fontsize=8.5)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, width * 0.36 + 0.25 * math.ceil(len(views) / 2)))
+    height = width * 0.36 + 0.25 * math.ceil(len(views) / 2)
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="uncertainty-exceedance",
         title="Chance that beds run short, day by day",
@@ -275,7 +277,7 @@ def peak_date_chart(
             date_axis(ax, window)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, 0.6 + 0.8 * len(shown)))
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, 0.6 + 0.8 * len(shown))))
     return Chart(
         name="uncertainty-peak-dates",
         title="When ICU demand peaks",
@@ -346,7 +348,8 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
         fig.legend(loc="outside lower center", ncols=2, fontsize=8.5)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, 1.0 + 0.36 * max(len(rows), 1)))
+    height = 1.0 + 0.36 * max(len(rows), 1)
+    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
     return Chart(
         name="uncertainty-tornado",
         title="Which inputs matter most",
