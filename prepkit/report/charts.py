@@ -5,12 +5,13 @@ page (vector, so it prints sharply), PNG for slides, an alternate text
 written from the data (by the functions of :mod:`prepkit.report.context`)
 and a caption.
 
-The charts are drawn in five modules; this one lists them as jobs, in the
+The charts are drawn in six modules; this one lists them as jobs, in the
 order of the pack, and is the one to import:
 
 * :mod:`prepkit.report.charts_base`: the drawn chart, drawing and saving,
-  date axes, and limits that hold everything drawn on the axes
-  (:func:`~prepkit.report.charts_base.fit_limits`);
+  date axes, chart heights for each paper;
+* :mod:`prepkit.report.charts_limits`: axis limits that hold everything
+  drawn on every panel sharing the axis;
 * :mod:`prepkit.report.charts_windows`: the dates each chart shows;
 * :mod:`prepkit.report.charts_beds`: bed demand per scenario, when beds
   run short;

@@ -19,13 +19,13 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
-    fit_limits,
     plot_series,
     render_chart,
     tick_number,
     window_slice,
     wrap_label,
 )
+from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
 
 __all__ = ["absence_chart", "admissions_chart", "outcomes_chart"]
