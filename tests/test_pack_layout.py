@@ -1,7 +1,9 @@
 """Printed pages are clean: nothing runs into the margins, no page is left nearly empty.
 
 Both sample packs are rendered in A4 and in Letter (the paper size is the
-only change to the sample plan) and every page of the PDFs is measured:
+only change to the sample plan), with their own number of uncertainty
+draws, and every page of the PDFs is measured (the slow tests; the four
+packs are made once for them all):
 
 * every piece of text lies inside the page minus the margins that
   ``templates/pack.css`` sets for that paper, apart from the running footer,
@@ -16,7 +18,8 @@ the PDF reference describes it (ISO 32000-1:2008, section 9.4 "Text
 objects" and 9.4.4 "Text space details", equations in 9.4.4), and each
 shown string's box runs from its start to its advance, computed from the
 font's glyph widths (section 9.7.4.3 "Glyph metrics in CIDFonts"), and from
-the font's descent to its ascent.
+the font's descent to its ascent. Section numbers of ISO 32000-1, of the CSS
+specifications and of the paper standards cited below are from memory.
 """
 
 from __future__ import annotations
@@ -38,8 +41,6 @@ from prepkit.report.charts_base import TEXT_BLOCK_HEIGHTS_IN, chart_height
 from prepkit.report.render import templates_dir
 from prepkit.uncertainty import run_uncertainty
 from prepkit.workbook.reader import read_plan
-
-pytestmark = pytest.mark.slow
 
 SAMPLES = ("vellmora_city.xlsx", "tamsett_hollow.xlsx")
 SIZES = ("A4", "Letter")
@@ -404,12 +405,14 @@ def _pages(pack: Rendered) -> Iterator[tuple[int, list[Box], list[Box]]]:
         yield number, texts, images
 
 
+@pytest.mark.slow
 def test_the_packs_are_the_paper_size_asked_for(packs: list[Rendered]) -> None:
     sizes = {"A4": (595.3, 841.9), "Letter": (612.0, 792.0)}  # ISO 216; ANSI/ASME Y14.1
     for pack in packs:
         assert (pack.width, pack.height) == pytest.approx(sizes[pack.size], abs=0.1)
 
 
+@pytest.mark.slow
 def test_no_text_or_chart_runs_into_the_margins(packs: list[Rendered]) -> None:
     margins = css_margins((templates_dir() / "pack.css").read_text(encoding="utf-8"))
     problems = []
@@ -433,6 +436,7 @@ def test_no_text_or_chart_runs_into_the_margins(packs: list[Rendered]) -> None:
     assert problems == []
 
 
+@pytest.mark.slow
 def test_no_page_but_the_last_is_nearly_empty(packs: list[Rendered]) -> None:
     margins = css_margins((templates_dir() / "pack.css").read_text(encoding="utf-8"))
     # A line of body text: 11pt at line-height 1.45 (pack.css, html).
