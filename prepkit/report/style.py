@@ -187,7 +187,8 @@ def chart_rcparams() -> dict[str, Any]:
     embeds), the palette and line styles of :data:`SERIES_STYLES` as the
     property cycle, text drawn as paths in SVG (so SVG charts need no font
     on the reader's machine), and a fixed SVG id salt and resolution so
-    saved charts are byte-reproducible.
+    saved charts are byte-reproducible. Mathematical text is off, so a
+    ``$`` in a scenario or measure name is drawn as a dollar sign.
 
     Returns
     -------
@@ -227,6 +228,9 @@ def chart_rcparams() -> dict[str, Any]:
         "svg.hashsalt": "prepkit-chart",
         "svg.image_inline": True,
         "path.simplify": True,
+        # Planners' text ("Budget $5m vs $10m") is text: never mathematics or TeX.
+        "text.parse_math": False,
+        "text.usetex": False,
     }
 
 

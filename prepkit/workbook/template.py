@@ -39,6 +39,7 @@ from prepkit import __version__
 from prepkit.errors import OutputError
 from prepkit.outputs import normalise_xlsx, source_date
 from prepkit.plan import Intervention, Level, Plan, Range3
+from prepkit.sheet_text import mark_text_cell, safe_cell_text
 from prepkit.workbook import schema
 from prepkit.workbook.cells import EARLIEST_DATE, LATEST_DATE, normalise_key
 from prepkit.workbook.schema import (
@@ -375,7 +376,9 @@ def _input(cell: AnyCell, number_format: str, value: object = None) -> None:
     cell.protection = _UNLOCKED
     cell.number_format = number_format
     cell.alignment = _TOP
-    if value is not None:
+    if isinstance(value, str):
+        mark_text_cell(cell, safe_cell_text(value))  # type: ignore[arg-type]
+    elif value is not None:
         cell.value = value  # type: ignore[assignment]
 
 
