@@ -28,7 +28,9 @@ BUDGET = "Budget $5m vs $10m"
 TRICKY = {
     "scenario": "=Ward ^peak_ $x$ {{ 1+1 }}",
     "second": "Budget $5m vs $10m: a&b <c>",
-    "measure": "@School \\closure {% if %} 10% \"quoted\"",
+    # "$\\closure$" and "$_$" are mathematics matplotlib cannot parse: with mathematics on,
+    # drawing them raises ValueError ("Unknown symbol"), which stopped the run.
+    "measure": "@School $\\closure$ {% if %} 10% \"quoted\" $_$",
     "jurisdiction": "+Town of {Curly}; x: y } $",
     "title": "Plan -1 & \"test\" $2$",
     "prepared_by": "O'Hara, <team> {{ name }}",
