@@ -68,6 +68,7 @@ from prepkit.outputs import (  # noqa: E402
     MANIFEST_NAME,
     AtomicOutputDir,
     atomic_write_bytes,
+    check_output_dir,
     file_sha256,
     read_manifest,
     source_date,
@@ -601,6 +602,7 @@ def _with_draws(plan: Plan, draws: int | None) -> Plan:
 
 
 def _check_outdir(outdir: Path, workbook: Path) -> None:
+    """Refuse an output folder the pack may not replace; runs before any other work."""
     target = outdir.expanduser().absolute().resolve()
     source = workbook.expanduser().absolute().resolve()
     if source == target or source.is_relative_to(target):
@@ -609,6 +611,7 @@ def _check_outdir(outdir: Path, workbook: Path) -> None:
             "a folder that does not hold the planning workbook (the whole folder is replaced)",
             str(outdir),
         )
+    check_output_dir(outdir)
 
 
 def _closing_report(plan: Plan, results: PlanResults, outdir: Path | None, json_path: Path | None
@@ -636,14 +639,14 @@ def _run(
 ) -> str:
     steps = _Steps(say, quiet=options.quiet)
     generated = source_date()
+    outdir = options.outdir if options.outdir is not None else default_outdir
+    if not options.summary_only:
+        _check_outdir(outdir, workbook)
     steps(f"Reading {workbook.name}")
     plan, digest, notes = _read(workbook)
     for note in notes:
         steps(f"Note: {note}")
     plan = _with_draws(plan, options.draws)
-    outdir = options.outdir if options.outdir is not None else default_outdir
-    if not options.summary_only:
-        _check_outdir(outdir, workbook)
     steps(f"Running {len(plan.scenarios)} scenario(s), each with and without its measures")
     results = run_plan(plan)
     ensemble = _run_ensemble(plan, results, steps, options.scheduler)
