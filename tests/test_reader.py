@@ -180,7 +180,8 @@ def test_bare_number_above_one_is_not_a_share(editor: Editor) -> None:
     problem = editor.only_problem()
     assert (problem.sheet, problem.cell) == (schema.WORKFORCE, cell.coordinate)
     assert str(problem).endswith(
-        "expected a share between 0 and 1 (e.g. 25% or 0.25), found 25")
+        "expected a share between 0 and 1 (e.g. 25% or 0.25), found 25 (did you mean 25%? Type "
+        "25% or 0.25)")
 
 
 def test_dates_accept_iso_text(editor: Editor) -> None:
