@@ -88,6 +88,7 @@ from prepkit.uncertainty import (  # noqa: E402
     run_uncertainty,
     uncertainty_summary_dict,
 )
+from prepkit.workbook.describe import all_of  # noqa: E402
 from prepkit.workbook.reader import read_plan_with_warnings  # noqa: E402
 
 __all__ = [
@@ -647,7 +648,8 @@ def _run(
     for note in notes:
         steps(f"Note: {note}")
     plan = _with_draws(plan, options.draws)
-    steps(f"Running {len(plan.scenarios)} scenario(s), each with and without its measures")
+    each = "with and" if len(plan.scenarios) == 1 else "each with and"
+    steps(f"Running {all_of(len(plan.scenarios), 'scenario')}, {each} without its measures")
     results = run_plan(plan)
     ensemble = _run_ensemble(plan, results, steps, options.scheduler)
 

@@ -437,7 +437,8 @@ def test_describe_plan_summarises_the_plan(plan_path: Path) -> None:
 def test_describe_problems_lists_each_problem_under_a_count(template_path: Path) -> None:
     error = _file_error(template_path)
     lines = describe_problems(error).splitlines()
-    assert lines[0].startswith(f"{len(error.problems)} problem(s)")
+    assert len(error.problems) > 1
+    assert lines[0] == f"{len(error.problems)} problems found; the workbook cannot be used yet:"
     assert lines[1:] == [f"  {p}" for p in error.problems]
 
 
