@@ -314,7 +314,7 @@ def _watch(args: argparse.Namespace) -> int:
     if note is not None:
         print(note, file=sys.stderr)
     try:
-        watch_workbook(args.workbook, build, say=print, outdir=outdir)
+        watch_workbook(args.workbook, build, say=_say_now, outdir=outdir)
     except KeyboardInterrupt:
         print(f"Stopped watching {args.workbook.name}.")
     return EXIT_OK
@@ -344,6 +344,11 @@ def typed_command() -> str:
     except OSError:
         pass
     return shlex.quote(started)
+
+
+def _say_now(message: str) -> None:
+    """Print at once, also into a pipe or a log file (watch runs for hours)."""
+    print(message, flush=True)
 
 
 def _sayer(quiet: bool) -> Callable[[str], None]:
