@@ -662,11 +662,15 @@ def _check_unchanged(path: Path, digest: str) -> None:
         raise InputChangedError(path, digest, now)
 
 
+def _check_draws(draws: int | None) -> None:
+    if draws is not None and draws < 0:
+        raise PipelineError("--draws", "0 or more uncertainty draws", str(draws))
+
+
 def _with_draws(plan: Plan, draws: int | None) -> Plan:
     if draws is None:
         return plan
-    if draws < 0:
-        raise PipelineError("--draws", "0 or more uncertainty draws", str(draws))
+    _check_draws(draws)
     return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=draws))
 
 
@@ -741,6 +745,7 @@ def _run(
     steps = _Steps(say, quiet=options.quiet)
     generated = source_date()
     outdir = options.outdir if options.outdir is not None else default_outdir
+    _check_draws(options.draws)  # options and folder first: nothing is read before them
     if not options.summary_only:
         check_outdir(outdir, workbook)
     steps(f"Reading {workbook.name}")

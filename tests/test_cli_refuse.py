@@ -79,3 +79,13 @@ def test_summary_only_does_not_look_at_the_output_folder(
     err = capsys.readouterr().err
     assert "expected an Excel workbook" in err  # the workbook was read: no pack is written
     assert "output folder" not in err
+
+
+def test_negative_draws_are_refused_before_reading_the_workbook(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
+    _no_work(monkeypatch)
+    workbook = tmp_path / "plan.xlsx"
+    workbook.write_bytes(b"never read")
+    assert main(["run", str(workbook), "--draws", "-3"]) == 2
+    assert "--draws: expected 0 or more uncertainty draws, found -3" in capsys.readouterr().err
