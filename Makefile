@@ -38,10 +38,16 @@ sysdeps:
 	  fi; \
 	fi
 
+# setuptools prints an "Editable installation" notice for every editable install
+# of a project whose packages are mapped from other folders (templates/ ships as
+# prepkit.templates); it is information, not a problem, so it alone is filtered.
+# Every other warning of the build, such as a deprecation, still shows.
+EDITABLE_NOTICE := PYTHONWARNINGS='ignore:Editable installation'
+
 $(BIN)/.ready: pyproject.toml | sysdeps
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -e '.[test]'
+	$(EDITABLE_NOTICE) $(BIN)/python -m pip install --quiet -e '.[test]'
 	touch $@
 
 clean:

@@ -9,7 +9,10 @@ from __future__ import annotations
 
 import argparse
 import os
+import shlex
+import shutil
 import sys
+import textwrap
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
@@ -21,52 +24,160 @@ EXIT_INTERNAL = 1
 EXIT_INPUT = 2
 EXIT_INTERRUPTED = 130
 
+#: Default folder of ``prepkit demo`` (the same as :data:`prepkit.pipeline.DEMO_OUTDIR`;
+#: kept here so that ``--help`` does not load the model).
+DEMO_OUTDIR = Path("prepkit-demo")
+
+
+def _exit_codes(done: str = "done", *, interrupted: bool = True) -> str:
+    lines = [
+        "exit codes:",
+        f"  {EXIT_OK}    {done}",
+        f"  {EXIT_INPUT}    a problem with the input: mistakes in the workbook (each listed with",
+        "       its sheet and cell), a file that cannot be read, a wrong option or output",
+        "       folder",
+        f"  {EXIT_INTERNAL}    an internal error (set PREPKIT_DEBUG=1 to see the details)",
+    ]
+    if interrupted:
+        lines.append(f"  {EXIT_INTERRUPTED}  interrupted with Ctrl-C; earlier outputs are left as "
+                     "they were")
+    return "\n".join(lines)
+
+
+WORKBOOK_HELP = "the planning workbook (.xlsx); it is only read, never changed"
+OUTDIR_HELP = (
+    "folder for the pack (default: <workbook name>-pack beside the workbook, e.g. "
+    "my-plan-pack for my-plan.xlsx); it must be new, empty or hold an earlier pack, as it is "
+    "replaced whole"
+)
+DRAWS_HELP = (
+    "uncertainty draws per scenario and variant (default: the workbook's 'Uncertainty draws' "
+    "on the Plan sheet; 0 = no uncertainty ranges)"
+)
+QUIET_HELP = "print nothing but errors (default: progress messages and a closing summary)"
+
+
+class _Formatter(argparse.RawDescriptionHelpFormatter):
+    """Help with the examples and exit codes as written, and no line broken at a hyphen."""
+
+    def _split_lines(self, text: str, width: int) -> list[str]:
+        return textwrap.wrap(" ".join(text.split()), width, break_on_hyphens=False,
+                             break_long_words=False)
+
+
+def _para(text: str) -> str:
+    return textwrap.fill(text, 79, break_on_hyphens=False, break_long_words=False)
+
+
+def _epilog(examples: str, codes: str | None = None) -> str:
+    return f"{examples}\n\n{_exit_codes() if codes is None else codes}"
+
 
 def _parser() -> argparse.ArgumentParser:
+    formatter = _Formatter
     p = argparse.ArgumentParser(
         prog="prepkit",
-        description=(
+        description=_para(
             "Outbreak planning scenarios for emergency planners: reads a planning workbook, "
             "runs age-structured scenarios with and without measures, and writes a briefing "
             "pack. Results are a planning aid, not a forecast."
         ),
+        epilog=_epilog(
+            "examples:\n"
+            "  prepkit demo                          the sample city's pack, in prepkit-demo/\n"
+            "  prepkit template my-plan.xlsx         a blank planning workbook\n"
+            "  prepkit run my-plan.xlsx -o my-pack   every scenario, into a briefing pack\n"
+            "  prepkit COMMAND --help                each command's options"
+        ),
+        formatter_class=formatter,
     )
     p.add_argument("--version", action="version", version=f"prepkit {__version__}")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
 
-    t = sub.add_parser("template", help="write a blank planning workbook")
-    t.add_argument("path", type=Path, help="where to write the .xlsx file")
-    t.add_argument("--force", action="store_true", help="overwrite an existing file")
+    t = sub.add_parser(
+        "template", help="write a blank planning workbook", formatter_class=formatter,
+        description=_para(
+            "Write a blank planning workbook: an instructions sheet and one sheet per topic, "
+            "with guidance on every input."
+        ),
+        epilog=_epilog("example:\n  prepkit template my-plan.xlsx"),
+    )
+    t.add_argument("path", type=Path,
+                   help="where to write the workbook: a file name ending in .xlsx")
+    t.add_argument("--force", action="store_true",
+                   help="replace a file already at PATH (default: refuse to)")
 
-    c = sub.add_parser("check", help="read a workbook and list every problem, or summarise it")
-    c.add_argument("workbook", type=Path)
+    c = sub.add_parser(
+        "check", help="read a workbook and list every problem, or summarise it",
+        formatter_class=formatter,
+        description=_para(
+            "Read a planning workbook without running it: list every problem with its sheet "
+            "and cell, or summarise the plan when there are none."
+        ),
+        epilog=_epilog("example:\n  prepkit check my-plan.xlsx"),
+    )
+    c.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
 
-    r = sub.add_parser("run", help="run every scenario and write the briefing pack")
-    r.add_argument("workbook", type=Path)
-    r.add_argument("-o", "--outdir", type=Path, default=None,
-                   help="folder for the pack (default: <workbook name>-pack beside it)")
+    r = sub.add_parser(
+        "run", help="run every scenario and write the briefing pack", formatter_class=formatter,
+        description=_para(
+            "Run every scenario of a planning workbook with and without its measures, with "
+            "uncertainty ranges, and write the briefing pack (PDF and HTML), the results "
+            "workbook and the data files."
+        ),
+        epilog=_epilog(
+            "examples:\n"
+            "  prepkit run my-plan.xlsx -o my-pack\n"
+            "  prepkit run my-plan.xlsx --summary-json results.json --summary-only\n"
+            "  prepkit run my-plan.xlsx --draws 20000 --scheduler tcp://SCHEDULER-HOST:8786\n"
+            "    (SCHEDULER-HOST stands for the machine running your Dask scheduler)"
+        ),
+    )
+    r.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
+    r.add_argument("-o", "--outdir", type=Path, default=None, help=OUTDIR_HELP)
     r.add_argument("--summary-json", type=Path, default=None, metavar="PATH",
-                   help="also write every metric as JSON to PATH")
-    r.add_argument("--draws", type=int, default=None,
-                   help="uncertainty draws per scenario (overrides the workbook; 0 = none)")
+                   help="also write every metric as JSON to PATH (default: only summary.json "
+                        "inside the pack)")
+    r.add_argument("--draws", type=int, default=None, metavar="N", help=DRAWS_HELP)
     r.add_argument("--summary-only", action="store_true",
-                   help="compute the metrics and write only the JSON summary")
-    r.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
+                   help="compute the metrics and write only the JSON summary given by "
+                        "--summary-json, no pack (default: write the whole pack)")
+    r.add_argument("-q", "--quiet", action="store_true", help=QUIET_HELP)
     r.add_argument("--scheduler", default=None, metavar="ADDRESS",
-                   help="run the uncertainty draws on the Dask cluster at ADDRESS "
-                        "(e.g. tcp://scheduler-host:8786); needs prepkit[cluster]")
+                   help="run the uncertainty draws on the Dask cluster whose scheduler is at "
+                        "ADDRESS, e.g. tcp://SCHEDULER-HOST:8786; needs prepkit[cluster] "
+                        "(default: on this machine's cores)")
 
-    w = sub.add_parser("watch", help="build the pack, then rebuild it on every save")
-    w.add_argument("workbook", type=Path)
-    w.add_argument("-o", "--outdir", type=Path, default=None,
-                   help="folder for the pack (default: <workbook name>-pack beside it)")
-    w.add_argument("--draws", type=int, default=None,
-                   help="uncertainty draws per scenario (overrides the workbook; 0 = none)")
+    w = sub.add_parser(
+        "watch", help="build the pack, then rebuild it on every save", formatter_class=formatter,
+        description=_para(
+            "Build the pack, then rebuild it every time the workbook is saved, until stopped "
+            "with Ctrl-C. A save with mistakes lists them and leaves the pack as it was."
+        ),
+        epilog=_epilog(
+            "example:\n  prepkit watch my-plan.xlsx -o my-pack",
+            _exit_codes("stopped with Ctrl-C (the last good pack stays)", interrupted=False),
+        ),
+    )
+    w.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
+    w.add_argument("-o", "--outdir", type=Path, default=None, help=OUTDIR_HELP)
+    w.add_argument("--draws", type=int, default=None, metavar="N", help=DRAWS_HELP)
 
-    d = sub.add_parser("demo", help="run the bundled sample city and write its pack")
-    d.add_argument("outdir", type=Path, nargs="?", default=Path("prepkit-demo"))
-    d.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
-    d.add_argument("--draws", type=int, default=None, help="override the uncertainty draws")
+    d = sub.add_parser(
+        "demo", help="run the bundled sample city and write its pack", formatter_class=formatter,
+        description=_para(
+            "Run the sample workbook of the invented city of Vellmora and write its briefing "
+            "pack, with a copy of the workbook to change and run again."
+        ),
+        epilog=_epilog("examples:\n  prepkit demo\n  prepkit demo my-demo --draws 200"),
+    )
+    d.add_argument("outdir", type=Path, nargs="?", default=DEMO_OUTDIR,
+                   help=f"folder for the pack and the copy of the workbook (default: "
+                        f"{DEMO_OUTDIR} in the current folder)")
+    d.add_argument("-q", "--quiet", action="store_true", help=QUIET_HELP)
+    d.add_argument("--draws", type=int, default=None, metavar="N",
+                   help="uncertainty draws per scenario and variant (default: the number the "
+                        "sample workbook gives; 0 = no uncertainty ranges)")
     return p
 
 
@@ -130,7 +241,7 @@ def _template(path: Path, *, force: bool) -> int:
         return EXIT_INPUT
     atomic_write_with(path, write_workbook)
     print(f"Wrote a blank planning workbook to {path}.")
-    print("Fill the shaded cells, then run: prepkit check " + str(path))
+    print(f"Fill the shaded cells, then run: {typed_command()} check {shlex.quote(str(path))}")
     return EXIT_OK
 
 
@@ -150,6 +261,11 @@ def _check(workbook: Path) -> int:
 def _run(args: argparse.Namespace) -> int:
     from prepkit.pipeline import RunOptions, run_workbook
 
+    if args.summary_only and args.summary_json is None:
+        print("prepkit: --summary-only: expected --summary-json PATH beside it (the summary is "
+              "the only file written), found none; add --summary-json results.json",
+              file=sys.stderr)
+        return EXIT_INPUT
     options = RunOptions(
         outdir=args.outdir,
         summary_json=args.summary_json,
@@ -168,26 +284,71 @@ def _demo(args: argparse.Namespace) -> int:
     from prepkit.pipeline import RunOptions, run_demo
 
     options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=args.quiet)
-    report = run_demo(options, say=_sayer(args.quiet))
+    report = run_demo(options, say=_sayer(args.quiet), command=typed_command())
     if not args.quiet:
         print(report)
     return EXIT_OK
 
 
 def _watch(args: argparse.Namespace) -> int:
-    from prepkit.pipeline import RunOptions, run_workbook
+    from prepkit.pipeline import (
+        RunOptions,
+        check_outdir,
+        default_outdir,
+        first_use_note,
+        run_workbook,
+    )
     from prepkit.watch import watch_workbook
 
     if not args.workbook.is_file():
         print(f"prepkit: there is no workbook at {args.workbook}.", file=sys.stderr)
         return EXIT_INPUT
-    options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=True)
+    outdir = args.outdir if args.outdir is not None else default_outdir(args.workbook)
+    check_outdir(outdir, args.workbook)  # refused before watching, not at every save
+    options = RunOptions(outdir=outdir, draws=args.draws, quiet=True)
 
     def build() -> str:
         return run_workbook(args.workbook, options, say=_sayer(True))
 
-    watch_workbook(args.workbook, build, say=print)
+    note = first_use_note()
+    if note is not None:
+        print(note, file=sys.stderr)
+    try:
+        watch_workbook(args.workbook, build, say=_say_now, outdir=outdir)
+    except KeyboardInterrupt:
+        print(f"Stopped watching {args.workbook.name}.")
     return EXIT_OK
+
+
+def typed_command() -> str:
+    """How to type ``prepkit`` so that it runs from the shell this process was started in.
+
+    ``prepkit`` when that name on ``PATH`` is the program running now;
+    otherwise the path it was started by (``.venv/bin/prepkit`` under
+    ``make demo``), or ``python -m prepkit.cli`` when it was started that
+    way.
+
+    Returns
+    -------
+    str
+        A command, quoted for a POSIX shell.
+    """
+    started = sys.argv[0] if sys.argv else ""
+    script = Path(started)
+    if script.name != "prepkit":
+        return f"{shlex.quote(sys.executable)} -m prepkit.cli"
+    found = shutil.which("prepkit")
+    try:
+        if found is not None and Path(found).resolve() == script.resolve():
+            return "prepkit"
+    except OSError:
+        pass
+    return shlex.quote(started)
+
+
+def _say_now(message: str) -> None:
+    """Print at once, also into a pipe or a log file (watch runs for hours)."""
+    print(message, flush=True)
 
 
 def _sayer(quiet: bool) -> Callable[[str], None]:

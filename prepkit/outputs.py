@@ -84,6 +84,7 @@ __all__ = [
     "UnexpectedFilesError",
     "atomic_write_bytes",
     "atomic_write_with",
+    "check_output_dir",
     "file_sha256",
     "read_manifest",
     "recover_output_dir",
@@ -141,17 +142,83 @@ class UnexpectedFilesError(OutputError):
         Relative paths of the files and folders not listed in its manifest.
     """
 
+    #: Names shown in the message; the rest are counted.
+    SHOWN = 4
+
     def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
         self.outdir = outdir
         self.names = names
-        shown = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+        shown = ", ".join(names[: self.SHOWN])
+        if len(names) > self.SHOWN:
+            shown += f" and {len(names) - self.SHOWN} more"
         super().__init__(
             errno.EEXIST,
-            f"output folder: expected an empty folder or one holding only a previous prepkit "
-            f"pack (it is replaced whole), found other files: {shown}; choose another folder "
-            f"or move them out",
+            f"output folder {outdir}: expected an empty folder or one holding only an earlier "
+            f"prepkit pack (the whole folder is replaced), found files prepkit did not write: "
+            f"{shown}. Nothing was written; choose another output folder, or move those files "
+            "out of it",
             str(outdir),
         )
+
+    def __str__(self) -> str:
+        # The folder is named inside the sentence already.
+        return self.strerror or super().__str__()
+
+
+def check_output_dir(outdir: str | os.PathLike[str]) -> None:
+    """Refuse an output folder that a pack may not replace, before any work is done.
+
+    The same check runs again when the pack is written
+    (:class:`AtomicOutputDir`), in case files arrive during the run; calling
+    it first lets a run stop before reading the workbook or running the
+    model. Nothing is changed on disk.
+
+    Parameters
+    ----------
+    outdir : path-like
+        Output folder; it may be absent.
+
+    Raises
+    ------
+    OutputError
+        When ``outdir`` is a file.
+    UnexpectedFilesError
+        When ``outdir`` holds files or folders its manifest does not list
+        (desktop litter such as ``.DS_Store`` is allowed).
+    """
+    target = Path(outdir).expanduser().absolute()
+    target = target.resolve() if target.is_symlink() else target
+    if not target.exists():
+        return
+    if not target.is_dir():
+        raise OutputError(
+            errno.ENOTDIR, "output folder: expected a folder, found a file", str(target)
+        )
+    foreign = _foreign_files(target)
+    if foreign:
+        raise UnexpectedFilesError(target, foreign)
+
+
+def _foreign_files(outdir: Path) -> tuple[str, ...]:
+    """Files and folders in ``outdir`` that its manifest does not list, sorted."""
+    manifest = read_manifest(outdir)
+    listed = {e.name for e in manifest.files} if manifest else set()
+    if manifest is not None:
+        listed.add(MANIFEST_NAME)
+    allowed_dirs = {str(PurePosixPath(n).parent) for n in listed} | {"."}
+    for name in list(allowed_dirs):
+        allowed_dirs.update(str(p) for p in PurePosixPath(name).parents)
+    foreign = []
+    for root, dirs, names in os.walk(outdir):
+        rel_root = PurePosixPath(Path(root).relative_to(outdir).as_posix())
+        foreign += [str(rel_root / d) for d in dirs if str(rel_root / d) not in allowed_dirs]
+        dirs[:] = [d for d in dirs if str(rel_root / d) in allowed_dirs]
+        foreign += [
+            str(rel_root / n)
+            for n in names
+            if str(rel_root / n) not in listed and n not in _DESKTOP_LITTER
+        ]
+    return tuple(sorted(foreign))
 
 
 def source_date(default: datetime | None = None) -> datetime:
@@ -601,31 +668,7 @@ class AtomicOutputDir:
             time.sleep(self.pause)
 
     def _refuse_foreign_files(self) -> None:
-        if not self.outdir.exists():
-            return
-        if not self.outdir.is_dir():
-            raise OutputError(
-                errno.ENOTDIR, "output folder: expected a folder, found a file", str(self.outdir)
-            )
-        manifest = read_manifest(self.outdir)
-        listed = {e.name for e in manifest.files} if manifest else set()
-        if manifest is not None:
-            listed.add(MANIFEST_NAME)
-        allowed_dirs = {str(PurePosixPath(n).parent) for n in listed} | {"."}
-        for name in list(allowed_dirs):
-            allowed_dirs.update(str(p) for p in PurePosixPath(name).parents)
-        foreign = []
-        for root, dirs, names in os.walk(self.outdir):
-            rel_root = PurePosixPath(Path(root).relative_to(self.outdir).as_posix())
-            foreign += [str(rel_root / d) for d in dirs if str(rel_root / d) not in allowed_dirs]
-            dirs[:] = [d for d in dirs if str(rel_root / d) in allowed_dirs]
-            foreign += [
-                str(rel_root / n)
-                for n in names
-                if str(rel_root / n) not in listed and n not in _DESKTOP_LITTER
-            ]
-        if foreign:
-            raise UnexpectedFilesError(self.outdir, tuple(sorted(foreign)))
+        check_output_dir(self.outdir)
 
     def _swap_into_place(self) -> None:
         staging, outdir, parent = self.staging, self.outdir, self.outdir.parent

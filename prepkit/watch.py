@@ -3,8 +3,8 @@
 Planners rerun everything each time a health authority revises a figure.
 ``prepkit watch WORKBOOK`` builds the pack once, then waits for the workbook
 to be saved again and rebuilds it, until interrupted. A save that leaves the
-workbook with mistakes prints the problems and keeps the previous pack; the
-next good save rebuilds it.
+workbook with mistakes prints the problems and keeps the previous pack (or,
+when there is none yet, says so); the next good save rebuilds it.
 
 File-change notification comes from the ``watchfiles`` library, which
 handles the save-to-temporary-then-rename dance spreadsheet programs do.
@@ -17,7 +17,7 @@ from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 
 from prepkit.errors import PrepkitError, WorkbookError
-from prepkit.outputs import file_sha256
+from prepkit.outputs import file_sha256, read_manifest
 
 Say = Callable[[str], None]
 
@@ -52,6 +52,7 @@ def watch_workbook(
     build: Callable[[], str],
     say: Say,
     *,
+    outdir: Path | None = None,
     stop: threading.Event | None = None,
     changes: Iterable[set[tuple[object, str]]] | None = None,
 ) -> int:
@@ -67,6 +68,9 @@ def watch_workbook(
         :class:`~prepkit.errors.PrepkitError`) for input problems.
     say : callable
         Receives every message for the planner.
+    outdir : pathlib.Path, optional
+        The pack's folder, to tell after a failed build whether a previous
+        pack is there; without it, only packs built while watching count.
     stop : threading.Event, optional
         Set it to stop watching (used by tests; Ctrl-C stops it too).
     changes : iterable of sets of (change, path), optional
@@ -97,10 +101,17 @@ def watch_workbook(
             built += 1
         except WorkbookError as exc:
             say(describe_problems(exc))
-            say("The previous pack was kept. Fix the workbook and save it again.")
+            say(f"{kept()} Fix the workbook and save it again.")
         except PrepkitError as exc:
             say(f"prepkit: {exc}")
-            say("The previous pack was kept.")
+            say(kept())
+
+    def kept() -> str:
+        if outdir is None:
+            return "The previous pack was kept." if built else "No pack was written."
+        if read_manifest(outdir) is not None:
+            return f"The previous pack in {outdir} was kept."
+        return f"No pack was written to {outdir}."
 
     attempt()
     say(f"Watching {target.name} for changes; press Ctrl-C to stop.")

@@ -6,6 +6,8 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
+
 SAMPLE = Path(__file__).parents[1] / "sample_workbooks" / "tamsett_hollow.xlsx"
 ENTRY = "from prepkit.cli import entry; entry()"
 
@@ -39,3 +41,40 @@ def test_output_into_a_closed_pipe_is_not_a_traceback() -> None:
     err = entry.stderr.read().decode()
     entry.wait(timeout=120)
     assert "Traceback" not in err
+
+
+def test_watch_refuses_a_folder_of_other_files_before_watching(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from prepkit import watch
+    from prepkit.cli import main
+
+    monkeypatch.setattr(watch, "watch_workbook", lambda *_a, **_k: pytest.fail("watched"))
+    outdir = tmp_path / "pack"
+    outdir.mkdir()
+    (outdir / "notes.docx").write_bytes(b"mine")
+    assert main(["watch", str(SAMPLE), "-o", str(outdir)]) == 2
+    assert "found files prepkit did not write: notes.docx" in capsys.readouterr().err
+
+
+def test_watch_stopped_with_ctrl_c_exits_0(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from prepkit import pipeline, watch
+    from prepkit.cli import main
+
+    seen: dict[str, object] = {}
+
+    def watch_workbook(workbook: Path, build: object, say: object, *, outdir: Path) -> int:
+        seen["outdir"] = outdir
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(watch, "watch_workbook", watch_workbook)
+    monkeypatch.setattr(pipeline, "kernels_need_compiling", lambda: True)
+    book = tmp_path / "plan.xlsx"
+    book.write_bytes(SAMPLE.read_bytes())
+    assert main(["watch", str(book)]) == 0
+    out, err = capsys.readouterr()
+    assert seen["outdir"] == tmp_path / "plan-pack"  # the default folder, named to the watcher
+    assert out.strip() == "Stopped watching plan.xlsx."
+    assert err.strip() == pipeline.FIRST_USE_NOTE  # said once, before the first build

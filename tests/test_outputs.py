@@ -24,6 +24,7 @@ from prepkit.outputs import (
     UnexpectedFilesError,
     atomic_write_bytes,
     atomic_write_with,
+    check_output_dir,
     file_sha256,
     read_manifest,
     recover_output_dir,
@@ -214,6 +215,32 @@ def test_folder_with_other_files_is_refused_and_left_alone(tmp_path: Path) -> No
     assert isinstance(info.value, OutputError) and isinstance(info.value, OSError)
     assert (outdir / "my notes.docx").read_bytes() == b"planner's own work"
     assert _leftovers(tmp_path) == []
+
+
+def test_check_before_any_work_names_a_few_files_and_counts_the_rest(tmp_path: Path) -> None:
+    outdir = tmp_path / "pack"
+    _write_pack(outdir, FIRST_PACK)
+    for name in ("a.txt", "b.txt", "c.txt", "d.txt", "e.txt", "f.txt"):
+        (outdir / name).write_text("mine")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    with pytest.raises(UnexpectedFilesError) as info:
+        check_output_dir(outdir)
+    message = str(info.value)
+    assert message.startswith(f"output folder {outdir}: expected an empty folder")
+    assert "a.txt, b.txt, c.txt, d.txt and 2 more" in message
+    assert "choose another output folder, or move those files out of it" in message
+    assert str(outdir) not in message[len(f"output folder {outdir}"):]  # named once
+    assert sorted(p.name for p in tmp_path.iterdir()) == before  # the check changes nothing
+
+
+def test_check_accepts_an_absent_folder_and_an_earlier_pack(tmp_path: Path) -> None:
+    check_output_dir(tmp_path / "new")
+    assert not (tmp_path / "new").exists()
+    _write_pack(tmp_path / "pack", FIRST_PACK)
+    check_output_dir(tmp_path / "pack")
+    (tmp_path / "file").write_text("x")
+    with pytest.raises(OutputError, match="expected a folder, found a file"):
+        check_output_dir(tmp_path / "file")
 
 
 def test_non_empty_folder_without_manifest_is_refused(tmp_path: Path) -> None:

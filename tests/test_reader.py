@@ -180,7 +180,8 @@ def test_bare_number_above_one_is_not_a_share(editor: Editor) -> None:
     problem = editor.only_problem()
     assert (problem.sheet, problem.cell) == (schema.WORKFORCE, cell.coordinate)
     assert str(problem).endswith(
-        "expected a share between 0 and 1 (e.g. 25% or 0.25), found 25")
+        "expected a share between 0 and 1 (e.g. 25% or 0.25), found 25 (did you mean 25%? Type "
+        "25% or 0.25)")
 
 
 def test_dates_accept_iso_text(editor: Editor) -> None:
@@ -361,10 +362,45 @@ def test_empty_file_is_a_workbook_error(tmp_path: Path) -> None:
     assert "empty" in _one_file_problem(path)
 
 
-def test_csv_renamed_xlsx_is_a_workbook_error(tmp_path: Path) -> None:
-    path = tmp_path / "data.xlsx"
-    path.write_text("Item,Value\nJurisdiction,Somewhere\n")
-    assert "text file" in _one_file_problem(path)
+SAVE_AS_XLSX = "open it in a spreadsheet program and save it as an Excel workbook (.xlsx)"
+
+
+@pytest.mark.parametrize("name", ["data.xlsx", "data.csv", "data.txt", "data"])
+def test_csv_is_named_as_csv_whatever_its_extension(tmp_path: Path, name: str) -> None:
+    path = tmp_path / name
+    path.write_text("Item,Value\nJurisdiction,Tamsett Hollow\nDays to look ahead,200\n")
+    assert _one_file_problem(path) == (
+        f"a CSV file (plain text, values separated by commas), not a workbook; {SAVE_AS_XLSX}")
+
+
+@pytest.mark.parametrize(("data", "words"), [
+    ("Band;People\n0-17;21000\n18-64;60500\n".encode("cp1252"), "semicolons"),
+    ("Band\tPeople\n0\u201317\t21000\n".encode("utf-16"), "tabs"),  # Excel's Unicode text
+    ("\ufeffBand,People\n0-17,21000\n".encode(), "commas"),
+    (b"Band,Notes\n65+,\"caf\xe9, parks\"\n", "commas"),  # Latin-1, a quoted comma
+])
+def test_csv_in_other_encodings_and_delimiters_is_named_as_csv(
+    tmp_path: Path, data: bytes, words: str
+) -> None:
+    path = tmp_path / "export.xlsx"
+    path.write_bytes(data)
+    assert _one_file_problem(path).startswith(f"a CSV file (plain text, values separated by "
+                                              f"{words})")
+
+
+def test_long_csv_cut_mid_line_is_still_named_as_csv(tmp_path: Path) -> None:
+    path = tmp_path / "daily.csv"
+    path.write_text("day,admissions\n" + "".join(f"{d},{d * 3 % 17}\n" for d in range(9000)))
+    assert _one_file_problem(path).startswith("a CSV file")
+
+
+def test_other_text_files_are_named_for_what_they_are(tmp_path: Path) -> None:
+    page = tmp_path / "plan.xls"
+    page.write_text("<!DOCTYPE html><html><body><table></table></body></html>")
+    assert _one_file_problem(page) == f"a web page (HTML), not a workbook; {SAVE_AS_XLSX}"
+    notes = tmp_path / "notes.xlsx"
+    notes.write_text("Plan for the winter.\nCall the hospital on Monday.\n")
+    assert _one_file_problem(notes) == f"a text file, not a workbook; {SAVE_AS_XLSX}"
 
 
 def test_random_bytes_are_a_workbook_error(tmp_path: Path) -> None:
@@ -436,7 +472,8 @@ def test_describe_plan_summarises_the_plan(plan_path: Path) -> None:
 def test_describe_problems_lists_each_problem_under_a_count(template_path: Path) -> None:
     error = _file_error(template_path)
     lines = describe_problems(error).splitlines()
-    assert lines[0].startswith(f"{len(error.problems)} problem(s)")
+    assert len(error.problems) > 1
+    assert lines[0] == f"{len(error.problems)} problems found; the workbook cannot be used yet:"
     assert lines[1:] == [f"  {p}" for p in error.problems]
 
 

@@ -82,14 +82,59 @@ def test_share_problem_names_level_and_band(editor: Editor) -> None:
     problem = _only_at(editor, cell)
     assert str(problem) == (
         f"Severity!{cell.coordinate} (ICU share of admissions, central, band 65+): expected a "
-        "share between 0 and 1 (e.g. 25% or 0.25), found 1.4")
+        "share between 0 and 1 (e.g. 25% or 0.25), found 1.4 (did you mean 1.4%? Type 1.4% or "
+        "0.014)")
+
+
+# A share typed as a whole number of percent: common practice, no source (spreadsheets store
+# 75% as 0.75, so a 75 typed into a percent-formatted cell is shown as 7500%).
+
+def test_whole_percent_in_a_percent_cell_of_a_table_asks_did_you_mean(editor: Editor) -> None:
+    cell = editor.table(SEV, "ICU share of admissions, central [%]", "65+")
+    cell.value = 75
+    cell.number_format = "0%"
+    assert str(_only_at(editor, cell)) == (
+        f"Severity!{cell.coordinate} (ICU share of admissions, central, band 65+): expected a "
+        "share between 0 and 1 (e.g. 25% or 0.25), found 7500% (did you mean 75%? Type 75% or "
+        "0.75)")
+
+
+@pytest.mark.parametrize("level", ["low", "high"])
+def test_whole_percent_in_a_low_or_high_column_asks_did_you_mean(editor: Editor, level: str
+                                                                 ) -> None:
+    cell = editor.table(BY_AGE, f"With symptoms, {level} [%]", "18-64")
+    cell.value = 60
+    cell.number_format = "General"
+    assert _at(editor.problems(), cell).found == "60 (did you mean 60%? Type 60% or 0.6)"
+
+
+def test_whole_percent_typed_as_text_in_an_item_asks_did_you_mean(editor: Editor) -> None:
+    cell = editor.item(schema.HOSPITALS, "Ward beds used by other patients")
+    cell.value = "85"
+    assert _only_at(editor, cell).found == '"85" (did you mean 85%? Type 85% or 0.85)'
+
+
+def test_no_percent_hint_where_a_hundredth_is_still_out_of_range(editor: Editor) -> None:
+    cell = editor.item(schema.DISEASE, "Seasonal swing")  # at most 90%
+    cell.value = 95
+    cell.number_format = "General"
+    assert _only_at(editor, cell).found == "95"
+    cell.value = 250
+    assert _only_at(editor, cell).found == "250"
+
+
+def test_whole_percent_occupancy_trigger_asks_did_you_mean(editor: Editor) -> None:
+    cell = editor.table(MEAS, "Start level [% or per day]", "Isolation")  # ward occupancy
+    cell.value = 80
+    cell.number_format = "General"
+    assert _only_at(editor, cell).found == "80 (did you mean 80%? Type 80% or 0.8)"
 
 
 def test_percent_formatted_share_is_shown_as_typed(editor: Editor) -> None:
     cell = editor.table(SEV, "ICU share of admissions, central [%]", "65+")
     cell.value = 1.4
     cell.number_format = "0%"
-    assert _only_at(editor, cell).found == "140%"
+    assert _only_at(editor, cell).found.startswith("140% (did you mean 1.4%?")
 
 
 # ---- Bands --------------------------------------------------------------------------------
@@ -113,17 +158,47 @@ def test_first_band_must_start_at_age_zero(editor: Editor) -> None:
     assert "0 for the youngest band" in _only_at(editor, cell).expected
 
 
-def test_gap_between_bands_is_an_error(editor: Editor) -> None:
+def _two_problems(editor: Editor) -> tuple[Problem, ...]:
+    problems = editor.problems()
+    assert len(problems) == 2, "\n".join(str(p) for p in problems)
+    return problems
+
+
+def test_gap_between_bands_is_shown_at_both_ends(editor: Editor) -> None:
     cell = editor.table(POP, "Lowest age [years]", "18-64")
     cell.value = 19
-    assert _only_at(editor, cell).expected.startswith("18, one more than the highest age of band "
-                                                      "0-17")
+    problems = _two_problems(editor)
+    assert _at(problems, cell).expected.startswith("18, one more than the highest age of band "
+                                                   "0-17")
+    end = editor.table(POP, "Highest age [years]", "0-17")
+    assert _at(problems, end).expected.startswith("18, one less than the lowest age of band "
+                                                  "18-64")
 
 
-def test_overlapping_bands_are_an_error(editor: Editor) -> None:
+def test_overlap_made_at_a_lowest_age_is_shown_there_and_at_the_band_before(
+    editor: Editor,
+) -> None:
     cell = editor.table(POP, "Lowest age [years]", "65+")
     cell.value = 60
-    assert _only_at(editor, cell).expected.startswith("65, one more")
+    problems = _two_problems(editor)
+    assert _at(problems, cell).expected.startswith("65, one more")
+    end = editor.table(POP, "Highest age [years]", "18-64")
+    assert _at(problems, end).expected == (
+        "59, one less than the lowest age of band 65+ (bands follow on without gaps or overlaps)")
+
+
+def test_overlap_made_at_a_highest_age_is_shown_there_and_at_the_next_band(
+    editor: Editor,
+) -> None:
+    cell = editor.table(POP, "Highest age [years]", "18-64")
+    cell.value = 70
+    problems = _two_problems(editor)
+    assert str(_at(problems, cell)) == (
+        f"Population!{cell.coordinate} (Highest age, band 18-64): expected 64, one less than the "
+        "lowest age of band 65+ (bands follow on without gaps or overlaps), found 70")
+    start = editor.table(POP, "Lowest age [years]", "65+")
+    assert _at(problems, start).expected.startswith("71, one more than the highest age of band "
+                                                    "18-64")
 
 
 def test_only_the_last_band_may_leave_highest_age_blank(editor: Editor) -> None:

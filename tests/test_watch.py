@@ -93,3 +93,50 @@ def test_real_file_system_change_is_seen(tmp_path: Path) -> None:
         timer.cancel()
         writer.join()
     assert seen == [b"one", b"two"]
+
+
+def _failing_first_build(book: Path) -> list[str]:
+    def build() -> str:
+        raise WorkbookError([Problem(sheet="Hospitals", cell="B5", field="Staffed ward beds",
+                                     expected="a whole number", found='"many"')])
+
+    said, say = _recorder()
+    watch_workbook(book, build, say, outdir=book.parent / "pack",  # type: ignore[arg-type]
+                   changes=iter(()))
+    return said
+
+
+def test_first_build_into_a_new_folder_does_not_claim_a_previous_pack(tmp_path: Path) -> None:
+    book = tmp_path / "plan.xlsx"
+    book.write_bytes(b"bad")
+    said = _failing_first_build(book)
+    text = "\n".join(said)
+    assert "previous pack" not in text
+    assert (f"No pack was written to {tmp_path / 'pack'}. Fix the workbook and save it "
+            "again.") in said
+
+
+def test_first_build_beside_an_earlier_pack_says_it_was_kept(tmp_path: Path) -> None:
+    from prepkit.outputs import AtomicOutputDir
+
+    book = tmp_path / "plan.xlsx"
+    book.write_bytes(b"bad")
+    with AtomicOutputDir(tmp_path / "pack") as out:
+        out.write_bytes("briefing-pack.pdf", b"%PDF earlier")
+    said = _failing_first_build(book)
+    assert (f"The previous pack in {tmp_path / 'pack'} was kept. Fix the workbook and save it "
+            "again.") in said
+    assert (tmp_path / "pack" / "briefing-pack.pdf").read_bytes() == b"%PDF earlier"
+
+
+def test_without_a_folder_only_packs_built_while_watching_count(tmp_path: Path) -> None:
+    book = tmp_path / "plan.xlsx"
+    book.write_bytes(b"bad")
+
+    def build() -> str:
+        raise WorkbookError([Problem(sheet="Plan", cell="C5", field="Title", expected="text",
+                                     found="a blank cell")])
+
+    said, say = _recorder()
+    watch_workbook(book, build, say, changes=iter(()))  # type: ignore[arg-type]
+    assert "No pack was written. Fix the workbook and save it again." in said

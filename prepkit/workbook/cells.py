@@ -6,7 +6,8 @@ names the rest in plain words:
 * numbers: numeric cells, or text such as ``"1200"``, ``"1,200"`` or
   ``"12.5"``; never NaN or infinity;
 * shares: ``25%`` (a percent-formatted cell stores 0.25) or ``0.25``, or the
-  text ``"25%"``; a bare number above 1 is an error, not a percentage;
+  text ``"25%"``; a bare number above 1 is an error, not a percentage, and
+  one up to 100 gets the hint "did you mean 75%?";
 * dates: spreadsheet dates, or ISO text ``"2027-01-15"``;
 * choices: the shown entry, compared without case or extra spaces;
 * lists: names separated by ``;`` or ``,``;
@@ -318,7 +319,14 @@ def parse(f: Field, raw: RawCell | None) -> tuple[object | None, bool]:
         return number, False
     if f.type == "share":
         share, percent = share_of(raw)
-        _check_range(f, share, raw, low=0.0, high=1.0)
+        try:
+            _check_range(f, share, raw, low=0.0, high=1.0)
+        except BadValue as exc:
+            hint = percent_hint(share, f.minimum if f.minimum is not None else 0.0,
+                                f.maximum if f.maximum is not None else 1.0)
+            if not hint:
+                raise
+            raise BadValue(f"{exc.found} ({hint})", exc.expected) from None
         return share, percent
     if f.type == "date":
         return date_of(raw), False
@@ -406,6 +414,31 @@ def share_of(raw: RawCell) -> tuple[float, bool]:
             raise BadValue(show(raw))
         return number / 100.0, True
     return _number(raw), raw.is_percent
+
+
+def percent_hint(share: float, low: float = 0.0, high: float = 1.0) -> str:
+    """A hint for a share typed as a whole percentage, or ``""``.
+
+    "75" in a share cell is 75 times the whole (a percent-formatted cell
+    shows it as 7500%); the planner almost surely meant 75%. The hint is
+    given when the value is above 1, at most 100, and a hundredth of it
+    lies in the field's range.
+
+    Parameters
+    ----------
+    share : float
+        The value as read [fraction].
+    low, high : float
+        The field's range [fraction].
+
+    Returns
+    -------
+    str
+        E.g. ``"did you mean 75%? Type 75% or 0.75"``, or ``""``.
+    """
+    if not 1.0 < share <= 100.0 or not low <= share / 100.0 <= high:
+        return ""
+    return f"did you mean {share:.6g}%? Type {share:.6g}% or {share / 100.0:.6g}"
 
 
 def date_of(raw: RawCell) -> dt.date:

@@ -19,7 +19,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from prepkit.errors import Problem
 from prepkit.plan import LEVELS, SETTINGS
 from prepkit.workbook import schema
-from prepkit.workbook.cells import Got, Key, TableRow, normalise_key
+from prepkit.workbook.cells import Got, Key, TableRow, normalise_key, percent_hint
 from prepkit.workbook.schema import (
     FIELDS_BY_NAME,
     MAX_BANDS,
@@ -199,15 +199,25 @@ def check_bands(
         if upper is not None and lower is not None and upper < lower:
             problems.append(problem(upper_got, f"at least the lowest age ({lower:g})"))
         if not last and upper is not None:
-            nxt = ordered[i + 1].get("band.lower_age")
+            # A gap or an overlap is shown at both ends: the planner may have changed either.
+            following = ordered[i + 1]
+            nxt = following.get("band.lower_age")
+            next_lower = _num(nxt)
             want = upper + 1
-            if _num(nxt) != want:
+            if next_lower != want:
                 label = row.key or "above"
                 problems.append(problem(
                     nxt,
                     f"{want:g}, one more than the highest age of band {label} (bands follow "
                     "on without gaps or overlaps)",
                 ))
+                if next_lower is not None and (lower is None or upper >= lower):
+                    next_label = following.key or f"in row {following.row}"
+                    problems.append(problem(
+                        upper_got,
+                        f"{next_lower - 1:g}, one less than the lowest age of band "
+                        f"{next_label} (bands follow on without gaps or overlaps)",
+                    ))
     return problems, ordered
 
 
@@ -451,7 +461,9 @@ def _check_level(got: Got, start: str) -> list[Problem]:
         return []
     if start.endswith("_occupancy"):
         if value > 1:
-            return [problem(got, _OCCUPANCY_EXPECTED)]
+            hint = percent_hint(value)
+            return [problem(got, _OCCUPANCY_EXPECTED,
+                            f"{got.found} ({hint})" if hint else None)]
     elif got.percent:
         return [problem(got, "a number of admissions per day (not a percentage)")]
     return []
