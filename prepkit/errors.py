@@ -10,6 +10,8 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
+from prepkit.plural import counted
+
 
 class PrepkitError(Exception):
     """Base class of every error prepkit raises on purpose."""
@@ -76,7 +78,8 @@ class WorkbookError(ValueError, PrepkitError):
         self.warnings: tuple[Problem, ...] = tuple(warnings)
         first = str(self.problems[0]) if self.problems else "no detail"
         more = len(self.problems) - 1
-        super().__init__(first + (f" (and {more} more problem(s))" if more > 0 else ""))
+        rest = f" (and {counted(more, 'more problem', 'more problems')})" if more > 0 else ""
+        super().__init__(first + rest)
 
     @property
     def sheet(self) -> str:

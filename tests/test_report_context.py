@@ -116,10 +116,15 @@ def test_bed_sentence_adds_up() -> None:
     assert "." not in text.replace("2027.", "").split("peaking")[1].rstrip(".")
 
 
-def test_every_one_says_both_for_two() -> None:
-    assert words.every_one(1, "scenario", "scenarios") == "the scenario"
-    assert words.every_one(2, "scenario", "scenarios") == "both scenarios"
-    assert words.every_one(4, "scenario", "scenarios") == "all 4 scenarios"
+def test_bottom_line_says_both_for_two(small_results: Any) -> None:
+    plan, _ = small_results
+    roomy = dataclasses.replace(
+        plan, capacity=dataclasses.replace(plan.capacity, ward_beds=100_000, icu_beds=100_000)
+    )
+    roomy = dataclasses.replace(roomy, scenarios=roomy.scenarios[:2])
+    views = words.scenario_views(roomy, run_plan(roomy))
+    assert len(views) == 2
+    assert "available ward and ICU beds in both scenarios." in words.bottom_line(views)[0]
 
 
 @pytest.mark.parametrize(

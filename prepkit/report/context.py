@@ -33,6 +33,7 @@ import pandas as pd
 from prepkit.engine import PlanResults, ScenarioResults, ScenarioRun, column_slug
 from prepkit.metrics import BedMetrics, ScenarioMetrics, VentilatorMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
+from prepkit.plural import all_of
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.uncertainty import quantile_label
 from prepkit.workbook import schema
@@ -80,7 +81,6 @@ __all__ = [
     "observed_flag",
     "observed_sentence",
     "with_observations",
-    "every_one",
     "exceedance_alt",
     "format_about",
     "format_date",
@@ -346,15 +346,6 @@ def beds_phrase(value: float, kind: str = "") -> str:
     if whole == 0:
         return f"no {noun}s" if abs(value) < 1e-9 else f"less than one {noun}"
     return f"1 {noun}" if whole == 1 else f"{whole:,} {noun}s"
-
-
-def every_one(count: int, singular: str, plural: str) -> str:
-    """All of a group in words: ``the scenario``, ``both scenarios``, ``all 4 scenarios``."""
-    if count == 1:
-        return f"the {singular}"
-    if count == 2:
-        return f"both {plural}"
-    return f"all {count:,} {plural}"
 
 
 def quoted(name: str) -> str:
@@ -945,7 +936,7 @@ def observed_flag(views: Sequence[ScenarioView]) -> str:
     if not off:
         return (
             f"The hospital figures observed up to {date} fit the plausible range of "
-            f"{every_one(len(checked), 'scenario', 'scenarios')}."
+            f"{all_of(len(checked), 'scenario')}."
         )
     names = _name_list([quoted(v.name) for v in off])
     ahead = all(c.above for v in off for c in v.observed if not c.consistent)
@@ -1033,7 +1024,7 @@ def bottom_line(views: Sequence[ScenarioView]) -> tuple[str, ...]:
     if not short:
         top = max(views, key=lambda v: v.with_metrics.ward.peak_demand_beds)
         ward = top.with_metrics.ward
-        scope = every_one(total, "scenario", "scenarios")
+        scope = all_of(total, "scenario")
         return (
             f"With the planned measures, outbreak patients stay within the available ward and "
             f"ICU beds in {scope}.",
@@ -1046,7 +1037,7 @@ def bottom_line(views: Sequence[ScenarioView]) -> tuple[str, ...]:
         first += "the planned measures."
     elif len(short) == total:
         first = (
-            f"In {every_one(total, 'scenario', 'scenarios')}, outbreak patients would need more "
+            f"In {all_of(total, 'scenario')}, outbreak patients would need more "
             "hospital beds than are available, even with the planned measures."
         )
     else:

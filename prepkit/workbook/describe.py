@@ -9,6 +9,7 @@ from collections.abc import Sequence
 
 from prepkit.errors import Problem, WorkbookError
 from prepkit.plan import End, Intervention, Plan, Range3, Start
+from prepkit.plural import all_of, counted
 from prepkit.workbook.schema import FIELDS_BY_NAME, format_value
 
 __all__ = ["all_of", "counted", "describe_plan", "describe_problems"]
@@ -28,62 +29,6 @@ _TRANSMISSIBILITY = {
     "doubling_time": ("disease.doubling_time_days", "doubling_time_days"),
     "growth_rate": ("disease.growth_rate_per_day", "growth_rate_per_day"),
 }
-
-
-def all_of(count: int, noun: str, plural: str | None = None) -> str:
-    """Every one of a number of things, in words.
-
-    Parameters
-    ----------
-    count : int
-        How many there are [count].
-    noun : str
-        The thing, singular (``"scenario"``).
-    plural : str, optional
-        Its plural, when not ``noun + "s"``.
-
-    Returns
-    -------
-    str
-        ``"no scenarios"``, ``"the scenario"``, ``"both scenarios"``, then
-        ``"all 3 scenarios"``.
-
-    Examples
-    --------
-    >>> all_of(2, "scenario")
-    'both scenarios'
-    >>> all_of(5, "measure")
-    'all 5 measures'
-    """
-    many = plural if plural is not None else noun + "s"
-    if count <= 0:
-        return f"no {many}"
-    if count == 1:
-        return f"the {noun}"
-    if count == 2:
-        return f"both {many}"
-    return f"all {count:,} {many}"
-
-
-def counted(count: int, noun: str, plural: str | None = None) -> str:
-    """A number of things, in words: ``"1 problem"``, ``"3 problems"``.
-
-    Parameters
-    ----------
-    count : int
-        How many [count].
-    noun : str
-        The thing, singular.
-    plural : str, optional
-        Its plural, when not ``noun + "s"``.
-
-    Returns
-    -------
-    str
-        The count and the noun, singular only for exactly one.
-    """
-    many = plural if plural is not None else noun + "s"
-    return f"{count:,} {noun if count == 1 else many}"
 
 
 def describe_plan(plan: Plan, warnings: Sequence[Problem] = ()) -> str:
