@@ -111,7 +111,8 @@ def test_population_conserved_and_nothing_negative(plans: tuple[Plan, Plan]) -> 
     states = simulate(model).states
     people = states[:, : model.layout.people_size]
     total = base.population
-    # METHODS.md invariants: population (deaths included) constant, no negative compartment.
+    # Invariants of every compartment model (common practice, no source): population (deaths
+    # included) constant, no negative compartment.
     np.testing.assert_allclose(people.sum(axis=1), total, rtol=1e-9)
     assert people.min() >= -1e-9 * total
     counters = states[:, model.layout.people_size :]
@@ -121,7 +122,8 @@ def test_population_conserved_and_nothing_negative(plans: tuple[Plan, Plan]) -> 
 @settings(max_examples=25, deadline=None)
 @given(random_plans())
 def test_interventions_without_effect_change_nothing(plans: tuple[Plan, Plan]) -> None:
-    # METHODS.md invariant: an intervention with no effect reproduces the baseline exactly.
+    # Invariant of every compartment model (common practice, no source): an intervention with no
+    # effect reproduces the baseline exactly.
     base, padded = plans
     a = simulate(compiled(base)).states
     b = simulate(compiled(padded)).states

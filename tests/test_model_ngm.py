@@ -48,7 +48,8 @@ def test_ngm_matches_closed_form() -> None:
 
 
 def test_scaling_all_contacts_scales_r0() -> None:
-    # METHODS.md invariant: scaling all contacts by m scales R0 by m (R0 linear in C).
+    # Invariant of every compartment model (common practice, no source): scaling all contacts by m
+    # scales R0 by m (R0 linear in C).
     model = compiled(four_band_plan())
     for factor in (0.3, 1.7, 4.0):
         scaled = reproduction_number(model.pc, model.layout, contact_multipliers=np.full(4, factor))

@@ -9,7 +9,7 @@ from numpy.testing import assert_allclose
 
 from prepkit.engine import run_scenario
 
-# US HHS Pandemic Influenza Plan (Nov 2005), Table 1, severe column [V in METHODS.md]:
+# US HHS Pandemic Influenza Plan (Nov 2005), Table 1, severe column:
 ILLNESS_ATTACK = 0.30  # illness attack rate
 HOSPITALISED_PER_ILL = 0.110
 ICU_PER_HOSPITALISED = 0.15

@@ -18,7 +18,8 @@ DOSE_COLUMNS = {
 
 
 def test_zero_efficacy_equals_no_vaccination() -> None:
-    # METHODS.md invariant: vaccine efficacy 0 equals no vaccination.
+    # Invariant of every compartment model (common practice, no source): vaccine efficacy 0 equals
+    # no vaccination.
     vaccine = vaccination_measure(
         doses_per_day=20000.0, priority=(2, 1, 0), efficacy_infection=0.0, efficacy_severe=0.0
     )
