@@ -257,9 +257,10 @@ def range_value(rng: random.Random, f: Field, current: object) -> tuple[float | 
         x = math.exp(rng.uniform(math.log(floor), math.log(hi)))
     else:
         x = min(hi, max(lo, float(current) * 2 ** rng.uniform(-2, 2)))
+    value: float | int = x
     if f.type == "integer":
-        return max(math.ceil(lo), min(math.floor(hi), round(x))), kind
-    return x, kind
+        value = max(math.ceil(lo), min(math.floor(hi), round(x)))
+    return value, "min" if value == lo else "max" if value == hi else kind
 
 
 def cell_value(rng: random.Random, target: Target, base: Base) -> tuple[object, str]:

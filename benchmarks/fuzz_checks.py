@@ -162,6 +162,12 @@ def _job(path: Path, draws: int, result: JobResult, on_stage: Callable[[str], No
     result.outcome = "model_ok"
 
 
+def failed(result: JobResult) -> bool:
+    """True for a traceback, a hang, or a result that fails the checks."""
+    return result.outcome in ("traceback", "hang") or bool(
+        result.nonfinite or result.negative or result.nonconserved)
+
+
 def _digest(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 

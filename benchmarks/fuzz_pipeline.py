@@ -38,7 +38,6 @@ import shutil
 import sys
 import tempfile
 import time
-from collections import Counter
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from multiprocessing.connection import wait
@@ -57,7 +56,8 @@ for _name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "NUM
     os.environ.setdefault(_name, "1")
 
 from fuzz_cells import Base, Change, load_bases, range_changes  # noqa: E402
-from fuzz_checks import JobResult, run_job  # noqa: E402
+from fuzz_checks import JobResult, failed, run_job  # noqa: E402
+from fuzz_tally import Tally  # noqa: E402
 from fuzz_workbooks import random_mutation  # noqa: E402
 from test_workbook_fuzz import mutated_file  # noqa: E402
 
@@ -123,16 +123,12 @@ def run_case(case: Case, settings: Settings, folder: Path,
     return result
 
 
-def failed(result: JobResult) -> bool:
-    """True for a traceback, a hang, or a result that fails the checks."""
-    return result.outcome in ("traceback", "hang") or bool(
-        result.nonfinite or result.negative or result.nonconserved)
-
-
 def save_failure(case: Case, result: JobResult, path: Path, out: Path) -> None:
     """Keep the workbook and a note of the changes and the finding in ``out``."""
     out.mkdir(parents=True, exist_ok=True)
-    stem = out / f"case-{case.index:06d}-{result.outcome}"
+    kind = result.outcome if result.outcome in ("traceback", "hang") else (
+        "nonfinite" if result.nonfinite or result.negative else "nonconserved")
+    stem = out / f"case-{case.index:06d}-{kind}"
     shutil.copyfile(path, stem.with_suffix(".xlsx"))
     lines = [f"case {case.index} from {case.base.name}; outcome {result.outcome} at stage "
              f"{result.stage}; {result.seconds:.1f} s", "changes:"]
@@ -159,12 +155,15 @@ def _serve(conn: Any, settings: Settings) -> None:
     """Worker process: build the bases, then run each case index sent until told to stop."""
     bases = load_bases(settings.bases, ROOT / "sample_workbooks")
     with tempfile.TemporaryDirectory(prefix="prepkit-fuzz-") as tmp:
-        conn.send("ready")
-        while (index := conn.recv()) is not None:
-            case = make_case(settings, bases, index)
-            result = run_case(case, settings, Path(tmp),
-                              on_stage=lambda stage: conn.send(("stage", stage)))
-            conn.send((index, result, _tags(case)))
+        try:
+            conn.send("ready")
+            while (index := conn.recv()) is not None:
+                case = make_case(settings, bases, index)
+                result = run_case(case, settings, Path(tmp),
+                                  on_stage=lambda stage: conn.send(("stage", stage)))
+                conn.send((index, result, _tags(case)))
+        except (EOFError, BrokenPipeError):
+            pass  # the parent stopped; so do we
 
 
 def run_cases(settings: Settings, count: int, workers: int, on_result: OnResult) -> None:
@@ -247,6 +246,8 @@ class _Pool:
             for w in self.workers:
                 if w.index is None and w.ready:
                     w.conn.send(None)
+                else:
+                    w.process.kill()  # busy or starting: only left so when interrupted
             for w in self.workers:
                 w.process.join(timeout=10)
                 if w.process.is_alive():
@@ -270,98 +271,6 @@ class _Pool:
                 save_failure(case, result, path, self.settings.out)
         on_result(w.index, result, _tags(case))
         return 1
-
-
-# ---- counting -----------------------------------------------------------------------------
-
-
-@dataclass
-class Tally:
-    """Counters of a fuzz run; each case is counted once in ``workbooks`` and one outcome."""
-
-    workbooks: int = 0
-    unsaveable: int = 0
-    read_ok: int = 0
-    refused: int = 0
-    model_ok: int = 0
-    model_refused: int = 0
-    tracebacks: int = 0
-    hangs: int = 0
-    nonfinite: int = 0
-    negative: int = 0
-    nonconserved: int = 0
-    ensembles: int = 0
-    seconds: float = 0.0
-    slowest: tuple[float, int] = (0.0, -1)
-    traceback_stages: Counter[str] = field(default_factory=Counter)
-    refusals: Counter[str] = field(default_factory=Counter)
-    tags_all: Counter[str] = field(default_factory=Counter)
-    tags_bad: Counter[str] = field(default_factory=Counter)
-    shown: list[str] = field(default_factory=list)
-
-    def add(self, index: int, result: JobResult, tags: list[str]) -> None:
-        """Count one case."""
-        if result.outcome == "unsaveable":
-            self.unsaveable += 1
-            return
-        self.workbooks += 1
-        self.slowest = max(self.slowest, (result.seconds, index))
-        self.read_ok += result.outcome != "refused" and result.stage != "read"
-        self.refused += result.outcome == "refused"
-        self.model_ok += result.outcome == "model_ok"
-        self.model_refused += result.outcome == "model_refused"
-        self.tracebacks += result.outcome == "traceback"
-        self.hangs += result.outcome == "hang"
-        self.ensembles += result.ensemble and result.outcome == "model_ok"
-        if result.outcome == "model_refused":
-            self.refusals[result.message.split(";")[0][:90]] += 1
-        if result.outcome in ("traceback", "hang"):
-            self.traceback_stages[f"{result.outcome} at {result.stage}"] += 1
-        bad_numbers = bool(result.nonfinite or result.negative)
-        self.nonfinite += bad_numbers
-        self.negative += bool(result.negative)
-        self.nonconserved += bool(result.nonconserved)
-        if result.stage != "read":
-            self.tags_all.update(set(tags))
-        if failed(result) and result.stage != "read":
-            self.tags_bad.update(set(tags))
-            if len(self.shown) < 5:
-                first = (result.nonfinite + result.negative + result.nonconserved
-                         + [result.message.strip().splitlines()[-1] if result.message else ""])
-                self.shown.append(f"case {index}: {result.outcome} at {result.stage}: {first[0]}")
-
-    def last_line(self) -> str:
-        """The one-line summary."""
-        return (f"fuzz: workbooks={self.workbooks} read_ok={self.read_ok} refused={self.refused} "
-                f"model_ok={self.model_ok} model_refused={self.model_refused} "
-                f"tracebacks={self.tracebacks} hangs={self.hangs} nonfinite={self.nonfinite} "
-                f"nonconserved={self.nonconserved} seconds={self.seconds:.0f}")
-
-    def report(self, settings: Settings, workers: int) -> list[str]:
-        """Every figure of the run, one line each, the last line last."""
-        per = 1000 * self.seconds / max(1, self.workbooks + self.unsaveable)
-        lines = [
-            f"mutated workbooks:   {self.workbooks} (seed {settings.seed}; bases "
-            f"{', '.join(settings.bases)}); not saveable by openpyxl, skipped: {self.unsaveable}",
-            f"read as plans:       {self.read_ok}; refused by the reader: {self.refused}",
-            f"finished the job:    {self.model_ok} (of which {self.ensembles} with an ensemble "
-            f"of {settings.ensemble_draws} draws); refused by the model: {self.model_refused}",
-            f"tracebacks, hangs:   {self.tracebacks}, {self.hangs} (time limit "
-            f"{settings.timeout_s:g} s) {dict(self.traceback_stages) or ''}",
-            f"non-finite results:  {self.nonfinite} (of which {self.negative} below zero); "
-            f"not conserved: {self.nonconserved}",
-            f"slowest case:        {self.slowest[0]:.1f} s (case {self.slowest[1]})",
-            f"run time:            {self.seconds:.0f} s ({per:.0f} ms per workbook, "
-            f"{workers} worker(s))",
-        ]
-        lines += [f"model refusal ({n}): {text}" for text, n in self.refusals.most_common(6)]
-        lines += [f"first failure: {text}" for text in self.shown]
-        for tag, n in self.tags_bad.most_common(10):
-            lines.append(f"input in failing cases: {tag} in {n} of them "
-                         f"({self.tags_all[tag]} of the {self.read_ok} plans that read)")
-        if self.shown:
-            lines.append(f"failing workbooks and notes: {settings.out}")
-        return [*lines, self.last_line()]
 
 
 def fuzz(settings: Settings, count: int, workers: int,
