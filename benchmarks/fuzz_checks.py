@@ -196,10 +196,13 @@ def check_results(population: float, results: Any, into: JobResult) -> None:
             _numbers(dataclasses.asdict(run.inputs), f"{where} inputs", None, into)
             people = run.daily.loc[:, list(PEOPLE_COLUMNS)].to_numpy(dtype=float).sum(axis=1)
             gap = np.abs(people - population)
-            worst = float(np.nanmax(gap)) if gap.size and not np.isnan(gap).all() else 0.0
-            if worst > tolerance or np.isnan(gap).any():
+            missing = int(np.count_nonzero(~np.isfinite(gap)))
+            if missing:
+                into.nonconserved.append(f"{where}: the people add up to no finite number on "
+                                         f"{missing} day(s)")
+            elif gap.size and float(gap.max()) > tolerance:
                 into.nonconserved.append(f"{where}: people differ from the population by up to "
-                                         f"{worst:.6g} persons")
+                                         f"{float(gap.max()):.6g} persons")
         _numbers(dataclasses.asdict(item.effect), f"{item.scenario.name!r} effect", None, into)
     for level, table in results.transmissibility_by_level.items():
         _numbers(dataclasses.asdict(table), f"{level} transmissibility", None, into)

@@ -53,7 +53,8 @@ class Tally:
         self.hangs += result.outcome == "hang"
         self.ensembles += result.ensemble and result.outcome == "model_ok"
         if result.outcome == "model_refused":
-            self.refusals[result.message.split(";")[0][:90]] += 1
+            head = result.message.split(";")[0][:90]
+            self.refusals[re.sub(r"\bband \S+$|\bband \S+(?=[ ,])", "band ...", head)] += 1
         if result.outcome in ("traceback", "hang"):
             self.traceback_stages[f"{result.outcome} at {result.stage}"] += 1
         bad_numbers = bool(result.nonfinite or result.negative)
@@ -109,5 +110,6 @@ class Tally:
 
 def _finding(text: str) -> str:
     """A finding without its scenario name and figures, for counting alike ones together."""
-    text = re.sub(r"^'.*?' (with|without) ", "", text)
-    return re.sub(r" \(\d+ values\)$| down to .*$| = .*$| by up to .*$", "", text)
+    text = re.sub(r"^'.*?' (with|without|effect)(: | )", "", text)
+    return re.sub(r" \(\d+ values\)$| down to .*$| = .*$| by up to .*$| on \d+ day.*$", "",
+                  text)
