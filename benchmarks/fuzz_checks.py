@@ -188,7 +188,7 @@ def check_results(population: float, results: Any, into: JobResult) -> None:
     for item in results.scenarios:
         for run in (item.with_interventions, item.without_interventions):
             where = f"{item.scenario.name!r} {run.variant}"
-            _frame(run.daily, f"{where} daily", tolerance, into)
+            _frame(_defined(run.daily), f"{where} daily", tolerance, into)
             _frame(run.daily_by_band, f"{where} by band", tolerance, into)
             _numbers(dataclasses.asdict(run.metrics), f"{where} metrics", tolerance, into)
             _numbers(dataclasses.asdict(run.transmissibility), f"{where} transmissibility",
@@ -220,6 +220,19 @@ def check_ensemble(population: float, ensemble: Any, into: JobResult) -> None:
                 table = getattr(result, name).drop(columns=list(TORNADO_INPUTS), errors="ignore")
                 _frame(table, f"{where} {name}", None, into)
             _frame(result.per_draw, f"{where} per_draw", None, into)
+
+
+def _defined(daily: pd.DataFrame) -> pd.DataFrame:
+    """The daily table less occupancy shares of a bed type with no beds available.
+
+    Demand over zero available beds is an infinite occupancy share by definition
+    (prepkit.metrics.add_capacity_columns): the model's triggers read it that way, and
+    it is not a numerical failure.
+    """
+    drop = [f"{kind}_occupancy_share" for kind in ("ward", "icu")
+            if f"{kind}_available_beds" in daily and float(daily[f"{kind}_available_beds"].max())
+            <= 0.0]
+    return daily.drop(columns=drop, errors="ignore")
 
 
 def _frame(frame: pd.DataFrame, where: str, tolerance: float | None, into: JobResult) -> None:
