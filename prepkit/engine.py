@@ -105,7 +105,8 @@ class ScenarioRun:
     transmissibility : Transmissibility
         R0, growth rate, doubling time, generation time, effective R at day 0.
     substeps : int
-        RK4 steps per day used.
+        The most RK4 steps taken on one day (the step rule of
+        :func:`prepkit.model.kernels.advance_day` chooses them day by day).
     """
 
     scenario: str
@@ -198,7 +199,9 @@ def compile_scenario(
         :class:`prepkit.model.inputs.ResolvedInputs` (e.g. an uncertainty
         draw).
     substeps : int, optional
-        RK4 steps per day; default chosen from the stage rates.
+        Fewest RK4 steps per day; default
+        :data:`prepkit.model.compile.DEFAULT_SUBSTEPS` (the step rule takes
+        more on days with faster rates).
 
     Returns
     -------
@@ -235,7 +238,7 @@ def run_scenario(
         Replacement values for fields of
         :class:`prepkit.model.inputs.ResolvedInputs`.
     substeps : int, optional
-        RK4 steps per day.
+        Fewest RK4 steps per day.
 
     Returns
     -------
@@ -245,7 +248,9 @@ def run_scenario(
     Raises
     ------
     ModelError
-        When the plan cannot be simulated as asked.
+        When the plan cannot be simulated as asked, or the run fails a check
+        of :mod:`prepkit.model.health` (the message names the inputs
+        responsible).
     """
     chosen = _scenario(plan, scenario)
     model = compile_scenario(plan, chosen, with_interventions, overrides, substeps=substeps)
@@ -261,7 +266,7 @@ def run_plan(plan: Plan, *, substeps: int | None = None) -> PlanResults:
     plan : Plan
         The plan.
     substeps : int, optional
-        RK4 steps per day.
+        Fewest RK4 steps per day.
 
     Returns
     -------
@@ -470,5 +475,5 @@ def build_run(
         daily_by_band=by_band,
         metrics=metrics,
         transmissibility=transmissibility,
-        substeps=model.substeps,
+        substeps=int(trajectory.substeps.max(initial=0)),
     )

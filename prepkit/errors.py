@@ -93,7 +93,40 @@ class WorkbookError(ValueError, PrepkitError):
 
 
 class ModelError(ValueError, PrepkitError):
-    """The plan is valid as a workbook but cannot be simulated as asked."""
+    """The plan is valid as a workbook but cannot be simulated as asked.
+
+    Parameters
+    ----------
+    message : str
+        The whole explanation, in planners' words.
+    problems : iterable of Problem
+        The inputs responsible, each with its sheet, cell (``""`` when the
+        plan was not read from a workbook), field, expected and found; empty
+        when no single input is to blame.
+    draw : int or None
+        The uncertainty draw that failed (counted from 0), None for a single
+        run.
+    """
+
+    def __init__(
+        self, message: str, *, problems: Iterable[Problem] = (), draw: int | None = None
+    ) -> None:
+        super().__init__(message)
+        self.problems: tuple[Problem, ...] = tuple(problems)
+        self.draw = draw
+
+    def __reduce__(self) -> tuple[object, ...]:
+        # keyword-only attributes survive pickling (errors raised on a cluster worker)
+        return (_model_error, (str(self), self.problems, self.draw))
+
+    @property
+    def fields(self) -> tuple[str, ...]:
+        """Fields of the inputs responsible, in order."""
+        return tuple(problem.field for problem in self.problems)
+
+
+def _model_error(message: str, problems: tuple[Problem, ...], draw: int | None) -> ModelError:
+    return ModelError(message, problems=problems, draw=draw)
 
 
 class OutputError(OSError, PrepkitError):

@@ -923,7 +923,7 @@ def _tornado(
             got[item.key][row] = end if item.per_band else end[0]
     draws = simulate_draws(
         model, plan, _values_from(got, count), min_substeps=min_substeps, blocks=1,
-        dtype=np.float64,
+        dtype=np.float64, what="one-input-at-a-time run",
     )
     scalars, _ = _scalars(plan, draws)
     peak_icu = scalars["peak_icu_demand_beds"]

@@ -108,12 +108,16 @@ from prepkit.model.transmissibility import (
 from prepkit.plan import SETTINGS, Plan, Scenario
 
 DEFAULT_SUBSTEPS = 4
-"""RK4 steps per day. Measured against the DOP853 reference (benchmarks/accuracy.py): the
-largest census error over a run, relative to the peak, is about 2e-7 (10-12 band plans) to
-2e-5 (R0 4, one-day latent period) with 4 steps, 16 times less with 8; the target is 1e-3."""
+"""Fewest RK4 steps per day of a single run. Measured against the DOP853 reference
+(benchmarks/accuracy.py): the largest census error over a run, relative to the peak, is about
+2e-7 (10-12 band plans) to 2e-5 (R0 4, one-day latent period) with 4 steps, 16 times less with
+8; the target is 1e-3."""
 
 MAX_STEP_RATE = 0.5
-"""Largest (stage rate x step) allowed; faster stages get more substeps."""
+"""Largest (rate x step) of a single run, for every per-capita outflow rate met: Erlang stage
+rates and the force of infection with importations and dosing (the step rule of
+:func:`prepkit.model.kernels.advance_day`); faster days get more steps. Below the 1 that
+keeps RK4 steps non-negative (see :mod:`prepkit.model.health`), for accuracy."""
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -140,7 +144,9 @@ class CompiledModel:
     horizon_days : int
         Days to simulate [days].
     substeps : int
-        RK4 steps per day.
+        Fewest RK4 steps per day.
+    max_step_rate : float
+        Largest (rate x step) of the step rule [dimensionless].
     intervention_names, intervention_kinds : tuple of str
         Names and kinds of the table rows.
     inputs : ResolvedInputs
@@ -149,6 +155,10 @@ class CompiledModel:
         Calendar date of day 0.
     with_interventions : bool
         False when the run leaves the scenario's interventions out.
+    scenario_name : str
+        Name of the scenario.
+    plan : Plan or None
+        The plan compiled (for naming inputs in errors).
     """
 
     layout: StateLayout
@@ -165,6 +175,15 @@ class CompiledModel:
     inputs: ResolvedInputs
     day0: dt.date
     with_interventions: bool = True
+    max_step_rate: float = MAX_STEP_RATE
+    scenario_name: str = ""
+    plan: Plan | None = None
+
+    @property
+    def description(self) -> str:
+        """The run in words, e.g. ``"Scenario 'Base' with its measures"``."""
+        kind = "with" if self.with_interventions else "without"
+        return f"Scenario {self.scenario_name!r} {kind} its measures"
 
     @property
     def beta(self) -> float:
@@ -212,25 +231,6 @@ def seasonal_peak_day(day0: dt.date, peak: dt.date | None) -> float:
     raise AssertionError("unreachable")  # pragma: no cover
 
 
-def choose_substeps(layout_rates: NDArray[np.float64], default: int = DEFAULT_SUBSTEPS) -> int:
-    """RK4 substeps per day: the default, more when a stage is fast.
-
-    Parameters
-    ----------
-    layout_rates : ndarray
-        Every stage rate of the model [1/day].
-    default : int
-        Minimum number of substeps.
-
-    Returns
-    -------
-    int
-        Substeps so that every rate x step is at most :data:`MAX_STEP_RATE`.
-    """
-    fastest = float(np.max(layout_rates)) if layout_rates.size else 0.0
-    return max(default, int(math.ceil(fastest / MAX_STEP_RATE)))
-
-
 def compile_model(
     plan: Plan,
     scenario: Scenario,
@@ -252,7 +252,9 @@ def compile_model(
     with_interventions : bool
         False leaves every intervention out.
     substeps : int, optional
-        RK4 steps per day; default :func:`choose_substeps`.
+        Fewest RK4 steps per day; default :data:`DEFAULT_SUBSTEPS` (days
+        with faster rates take more, see
+        :func:`prepkit.model.kernels.advance_day`).
 
     Returns
     -------
@@ -394,13 +396,7 @@ def compile_model(
     y0[layout.stage(BLK_E)] = seeded
     y0[layout.stage(BLK_CUM_INF)] = seeded
 
-    rates = np.concatenate(
-        [
-            pc[P_WAIT_RATE * nb : (P_ICU_RATE + 1) * nb],
-            [pc[sc + S_LATENT_RATE], pc[sc + S_INFECTIOUS_RATE], pc[sc + S_PROTECT_RATE]],
-        ]
-    )
-    steps = choose_substeps(rates) if substeps is None else int(substeps)
+    steps = DEFAULT_SUBSTEPS if substeps is None else int(substeps)
     if steps < 1:
         raise ModelError("substeps must be at least 1")
 
@@ -419,6 +415,8 @@ def compile_model(
         inputs=inputs,
         day0=plan.details.day0,
         with_interventions=with_interventions,
+        scenario_name=scenario.name,
+        plan=plan,
     )
 
 

@@ -5,8 +5,10 @@ Equations in words
 The model is the one of :mod:`prepkit.model.kernels`; every draw is run by
 :func:`prepkit.model.kernels.run_draws`, which repeats the single-run loop
 (:func:`~prepkit.model.kernels.decide_day` then
-:func:`~prepkit.model.kernels.rk4_day`, day by day) for each draw on its own
-flat state, in parallel over draws.
+:func:`~prepkit.model.kernels.advance_day`, day by day, with the same step
+rule) for each draw on its own flat state, in parallel over draws, and
+checks every draw as a single run is checked (:mod:`prepkit.model.health`):
+a draw that fails stops the ensemble with an error naming its inputs.
 
 Per-draw arrays are built from the compiled central run of the scenario
 variant by overwriting only the numbers a draw changes, with the same
@@ -56,8 +58,10 @@ from scipy.special import gammainc
 
 from prepkit.errors import ModelError
 from prepkit.metrics import working_age_weights
-from prepkit.model.compile import MAX_STEP_RATE, CompiledModel
-from prepkit.model.kernels import run_draws
+from prepkit.model.compile import DEFAULT_SUBSTEPS, MAX_STEP_RATE, CompiledModel
+from prepkit.model.diagnose import run_error
+from prepkit.model.health import failed_rows, most_substeps
+from prepkit.model.kernels import REPORT_SIZE, run_draws
 from prepkit.model.layout import (
     IT_CEILING,
     IT_ISO_SYMPTOMATIC,
@@ -77,7 +81,6 @@ from prepkit.model.layout import (
     S_BETA,
     S_INFECTIOUS_RATE,
     S_LATENT_RATE,
-    S_PROTECT_RATE,
     S_RHO,
     S_VE_INFECTION,
     matrix_offset,
@@ -94,11 +97,14 @@ far below the 1e-3 target and far below the spread between draws (the engine's 4
 give about 2e-7). Pass ``min_substeps=None`` to use the engine's rule instead (then every
 draw equals :func:`prepkit.engine.run_scenario` with the same overrides)."""
 
-ENSEMBLE_MAX_STEP_RATE = 2.0
-"""Largest (stage rate x step) in the ensemble; faster stages get more steps. Classical RK4
-is stable on the negative real axis up to 2.785 (Hairer, Norsett & Wanner 1993, Solving
-Ordinary Differential Equations I, sec. IV.2 [from memory]); 2.0 keeps a margin. The
-engine's own limit is :data:`prepkit.model.compile.MAX_STEP_RATE`."""
+ENSEMBLE_MAX_STEP_RATE = 1.0
+"""Largest (rate x step) in the ensemble, for every per-capita outflow rate met (the step rule
+of :func:`prepkit.model.kernels.advance_day`); faster days get more steps. 1 is the largest
+value for which an RK4 step keeps every compartment of a linear flow non-negative (see
+:mod:`prepkit.model.health`); classical RK4 would stay stable up to 2.785 on the negative
+real axis (Hairer, Norsett & Wanner 1993, Solving Ordinary Differential Equations I,
+sec. IV.2, from memory), but with negative compartments on the way. The engine's own limit
+is :data:`prepkit.model.compile.MAX_STEP_RATE`."""
 
 DEFAULT_BLOCKS = 8
 """Draws are run in this many blocks, so that progress can be reported between them."""
@@ -224,7 +230,7 @@ class DrawSeries:
     beta : ndarray, shape (draws,)
         Transmission scale of each draw [per contact].
     substeps : ndarray of int64, shape (draws,)
-        RK4 steps per day of each draw.
+        The most RK4 steps each draw took on one day.
     """
 
     series: NDArray[Any]
@@ -373,10 +379,8 @@ def build_parameters(
     beta : ndarray, shape (draws,)
         Transmission scale of each draw [per contact] (:func:`calibrate_beta`).
     min_substeps : int or None
-        Fewest RK4 steps per day, with at most :data:`ENSEMBLE_MAX_STEP_RATE`
-        per step for the fastest stage; None uses the engine's rule
-        (:data:`~prepkit.model.compile.DEFAULT_SUBSTEPS` and
-        :data:`~prepkit.model.compile.MAX_STEP_RATE`).
+        Fewest RK4 steps per day; None uses the engine's
+        (:data:`~prepkit.model.compile.DEFAULT_SUBSTEPS`).
 
     Returns
     -------
@@ -385,10 +389,9 @@ def build_parameters(
     itabs : ndarray, shape (draws, interventions, columns)
         Intervention tables.
     substeps : ndarray of int64, shape (draws,)
-        RK4 steps per day, chosen as the engine chooses them.
+        Fewest RK4 steps per day of each draw (the step rule adds more on
+        days that need them).
     """
-    from prepkit.model.compile import DEFAULT_SUBSTEPS
-
     layout = model.layout
     nb = layout.bands
     sc = scalar_offset(nb)
@@ -457,17 +460,30 @@ def build_parameters(
                 1.0 - theta_wait[None, :]
             )
 
-    fastest = np.max(pcs[:, P_WAIT_RATE * nb : (P_ICU_RATE + 1) * nb], axis=1)
-    for column in (S_LATENT_RATE, S_INFECTIOUS_RATE, S_PROTECT_RATE):
-        fastest = np.maximum(fastest, pcs[:, sc + column])
+    floor, _ = step_rule(min_substeps)
+    return pcs, itabs, np.full(n, floor, dtype=np.int64)
+
+
+def step_rule(min_substeps: int | None) -> tuple[int, float]:
+    """Fewest RK4 steps a day and largest (rate x step) of the ensemble.
+
+    Parameters
+    ----------
+    min_substeps : int or None
+        Fewest steps a day with :data:`ENSEMBLE_MAX_STEP_RATE`; None for the
+        engine's :data:`~prepkit.model.compile.DEFAULT_SUBSTEPS` and
+        :data:`~prepkit.model.compile.MAX_STEP_RATE`.
+
+    Returns
+    -------
+    tuple of int and float
+        Fewest steps, largest (rate x step).
+    """
     if min_substeps is None:
-        floor, limit = DEFAULT_SUBSTEPS, MAX_STEP_RATE
-    else:
-        floor, limit = int(min_substeps), ENSEMBLE_MAX_STEP_RATE
-    if floor < 1:
+        return DEFAULT_SUBSTEPS, MAX_STEP_RATE
+    if int(min_substeps) < 1:
         raise ModelError("substeps must be at least 1")
-    substeps = np.maximum(floor, np.ceil(fastest / limit)).astype(np.int64)
-    return pcs, itabs, substeps
+    return int(min_substeps), ENSEMBLE_MAX_STEP_RATE
 
 
 def shares_before_isolation(
@@ -558,6 +574,7 @@ def simulate_draws(
     blocks: int = DEFAULT_BLOCKS,
     dtype: type[np.floating[Any]] = np.float32,
     on_block: Callable[[int], None] | None = None,
+    what: str = "uncertainty draw",
 ) -> DrawSeries:
     """Run every draw of one scenario variant with the compiled parallel loop.
 
@@ -584,11 +601,19 @@ def simulate_draws(
         and totals are float64 either way).
     on_block : callable, optional
         Called with the number of draws finished after each block.
+    what : str
+        What a draw is called in an error (e.g. ``"uncertainty draw"``).
 
     Returns
     -------
     DrawSeries
         Daily series, totals and peaks of every draw.
+
+    Raises
+    ------
+    ModelError
+        When a draw fails a check of :mod:`prepkit.model.health` (the first
+        such draw is named with its inputs); no draw's numbers are returned.
 
     Notes
     -----
@@ -603,6 +628,9 @@ def simulate_draws(
     peaks = np.zeros((n, len(PEAK_NAMES)))
     peak_days = np.zeros((n, len(PEAK_NAMES)), dtype=np.int64)
     substeps = np.zeros(n, dtype=np.int64)
+    reports = np.zeros((n, REPORT_SIZE))
+    floor, limit = step_rule(min_substeps)
+    most = most_substeps(floor, limit)
     employed = employed_weights(plan)
     use_all_cores()
     edges = np.linspace(0, n, max(1, min(int(blocks), max(n, 1))) + 1).astype(int)
@@ -610,10 +638,9 @@ def simulate_draws(
         if stop <= start:
             continue
         part = take_draws(values, np.arange(start, stop))
-        pcs, itabs, steps = build_parameters(
+        pcs, itabs, floors = build_parameters(
             model, plan, part, betas[start:stop], min_substeps=min_substeps
         )
-        substeps[start:stop] = steps
         run_draws(
             model.y0,
             pcs,
@@ -622,13 +649,21 @@ def simulate_draws(
             model.iprio,
             model.cap,
             days,
-            steps,
+            floors,
+            limit,
+            most,
             employed,
             series[:, start:stop, :],
             finals[start:stop],
             peaks[start:stop],
             peak_days[start:stop],
+            substeps[start:stop],
+            reports[start:stop],
         )
+        bad = failed_rows(reports[start:stop])
+        if bad.size:
+            raise draw_error(model, plan, part, pcs, reports[start:stop], int(bad[0]),
+                             first=start, what=what)
         if on_block is not None:
             on_block(stop - start)
     return DrawSeries(
@@ -638,6 +673,53 @@ def simulate_draws(
         peak_days=peak_days,
         beta=betas,
         substeps=substeps,
+    )
+
+
+def draw_error(
+    model: CompiledModel,
+    plan: Plan,
+    part: DrawValues,
+    pcs: NDArray[np.float64],
+    reports: NDArray[np.float64],
+    row: int,
+    *,
+    first: int,
+    what: str,
+) -> ModelError:
+    """The error naming a failed draw and its inputs.
+
+    Parameters
+    ----------
+    model : CompiledModel
+        Compiled central run of the variant.
+    plan : Plan
+        The plan.
+    part : DrawValues
+        The block of draws that holds the failed one.
+    pcs : ndarray, shape (block draws, parameters)
+        Their parameter vectors.
+    reports : ndarray, shape (block draws, REPORT_SIZE)
+        Their checks.
+    row : int
+        Row of the failed draw in the block.
+    first : int
+        Index of the block's first draw in the ensemble.
+    what : str
+        What a draw is called.
+
+    Returns
+    -------
+    ModelError
+        Names the draw (counted from 1 in the message) and its inputs.
+    """
+    from dataclasses import replace
+
+    draw = first + row
+    inputs = replace(model.inputs, **part.overrides(row))
+    return run_error(
+        plan, model, reports[row], what=f"{model.description}, {what} {draw + 1}",
+        pc=pcs[row], inputs=inputs, draw=draw,
     )
 
 

@@ -33,6 +33,36 @@ For every age band ``i`` (population ``N_i`` fixed at its day-0 value):
 * Counters integrate infections, symptom onsets (entries to ``Y`` and
   ``P``), admissions, ICU admissions, doses and occupied bed-days.
 
+Step rule
+---------
+Each day is integrated with ``n`` equal classical RK4 steps, ``n`` chosen
+afresh every day by :func:`advance_day` (the one rule of single runs and of
+every ensemble draw): at least the run's fewest steps, and enough that
+``h * q <= limit`` (``h = 1 / n`` days) for every per-capita outflow rate
+``q`` met during the day. These are the Erlang stage rates, and for
+susceptible and dosed people the force of infection plus importations per
+resident and the dosing (or dose-to-protection) rate. The force of
+infection is taken from every RK4 evaluation of the day; a day that met a
+larger one than its steps allow is taken again from its start with more
+steps, up to the most allowed (:data:`prepkit.model.health.MAX_RATE_PER_DAY`
+over ``limit``; a day that needs more fails with a message naming the
+inputs). With ``limit <= 1`` each step of a linear flow keeps every
+compartment non-negative (the RK4 polynomial is absolutely monotonic on
+[-1, 0], see :mod:`prepkit.model.health`) and RK4 keeps the number of
+people exactly, up to rounding; every day boundary is checked for both.
+
+Why this rule rather than the alternatives: a bound fixed before the run
+(seasonal peak x beta x the largest contact row sum, with the whole
+population infectious) is 7 to 140 times the largest force of infection
+the sample plans reach, and 2.7 times for a doubling time of half a day
+with 5-day periods, and it would hold on every day of the horizon: that
+run would take 17 times the steps (20,880 against 1,243 over 240 days),
+and the ensemble twice its steps on the samples. Limiting each outflow to
+the content of its compartment would change the equations, and the
+answer, exactly where the rates are large. Following the rates met costs
+one maximum per evaluation, and a second attempt on the few days when the
+force of infection rises faster than it did the day before.
+
 All functions work on flat ``float64`` arrays laid out as described in
 :mod:`prepkit.model.layout`, so an ensemble can call them once per draw:
 :func:`run_draws` does that for many draws in parallel (it lives here, not in
@@ -140,6 +170,21 @@ TWO_PI = 2.0 * math.pi
 _U = np.uint64
 """Index type of the hot loops: numba tests signed indices for wrap-around, unsigned ones not."""
 
+FORCE_GROWTH_MAX = 8.0
+"""Largest day-on-day growth of the force of infection assumed when a day's steps are first
+chosen (a doubling time of a third of a day); a faster rise only costs a second attempt."""
+
+# what run_days and run_draws report of each run (report arrays, float64)
+REPORT_DRIFT = 0  # largest |people - people at day 0| / people at day 0 [fraction]
+REPORT_LOWEST = 1  # smallest number of people in any compartment / people at day 0 [fraction]
+REPORT_NONFINITE = 2  # day boundaries with a number that is not finite [count]
+REPORT_FAILED_DAY = 3  # day that needed more than the most steps allowed, -1 when none [days]
+REPORT_RATE = 4  # largest per-capita outflow rate met on that day [1/day]
+REPORT_STAGES = 5  # fastest stage rate on that day [1/day]
+REPORT_EXTRA = 6  # importations + dosing (or protection) per capita on that day [1/day]
+REPORT_FORCE = 7  # largest force of infection at a day start over the run [1/day]
+REPORT_SIZE = 8
+
 
 @njit(cache=True)
 def season_factor(t: float, amplitude: float, peak_day: float) -> float:
@@ -178,6 +223,8 @@ def rhs(
         Output [per day]; every entry is written.
     scratch : ndarray
         Scratch space of at least ``5 B`` numbers (``B`` bands); overwritten.
+        When it holds more, the largest per-capita force of infection
+        [1/day] is written at index ``5 B``.
     """
     # Indices are unsigned: numba then skips the negative-index wrap-around test on every
     # array access, which takes about a quarter off the time of this function; every number
@@ -297,6 +344,17 @@ def rhs(
         for i in range(nb):
             scratch[x_force + i] += pd[col * nb + i] * x
         col += one
+    # the largest per-capita force of infection of this evaluation [1/day], for the step
+    # rule (advance_day), in the slot after the five scratch rows when the caller gave one;
+    # ``f * 0.0`` is 0 unless f is inf or nan, which then reaches the slot
+    if scratch.size > _U(5) * nb:
+        top = 0.0
+        guard = 0.0
+        for i in range(nb):
+            f = abs(scratch[x_force + i])
+            top = max(top, f)
+            guard += f * 0.0
+        scratch[_U(5) * nb] = top * season + guard
 
     # infection, importation, dosing; first stage of the latent chains
     for i in range(nb):
@@ -397,7 +455,8 @@ def rk4_day(
     lay: NDArray[np.int64],
     substeps: int,
     work: NDArray[np.float64],
-) -> None:
+    k1_ready: bool = False,
+) -> float:
     """Advance ``y`` in place from day ``t0`` to ``t0 + 1`` with classical RK4.
 
     Parameters
@@ -411,7 +470,17 @@ def rk4_day(
     substeps : int
         Equal RK4 steps per day.
     work : ndarray
-        Scratch space of shape (6, y.size).
+        Scratch space of shape (6, y.size) or more rows.
+    k1_ready : bool
+        True when ``work[0]`` already holds the derivative at ``(t0, y)``
+        (and ``work[5]`` the force of infection it found): the first
+        evaluation is then skipped.
+
+    Returns
+    -------
+    float
+        Largest per-capita force of infection over every evaluation of the
+        day [1/day] (inf or nan when the state stopped being finite).
 
     References
     ----------
@@ -419,6 +488,7 @@ def rk4_day(
     Differentialgleichungen. Z. Math. Phys. 46:435-453.
     """
     size = y.size
+    force_at = 5 * lay[LAY_BANDS]
     h = 1.0 / substeps
     half = 0.5 * h
     sixth = h / 6.0
@@ -428,20 +498,197 @@ def rk4_day(
     k4 = work[3]
     tmp = work[4]
     scratch = work[5]
+    top = 0.0
     for step in range(substeps):
         t = t0 + step * h
-        rhs(t, y, pc, pd, lay, k1, scratch)
+        if step > 0 or not k1_ready:
+            rhs(t, y, pc, pd, lay, k1, scratch)
+        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
         for q in range(size):
             tmp[q] = y[q] + half * k1[q]
         rhs(t + half, tmp, pc, pd, lay, k2, scratch)
+        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
         for q in range(size):
             tmp[q] = y[q] + half * k2[q]
         rhs(t + half, tmp, pc, pd, lay, k3, scratch)
+        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
         for q in range(size):
             tmp[q] = y[q] + h * k3[q]
         rhs(t + h, tmp, pc, pd, lay, k4, scratch)
+        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
         for q in range(size):
             y[q] += sixth * (k1[q] + 2.0 * k2[q] + 2.0 * k3[q] + k4[q])
+    return top
+
+
+@njit(cache=True)
+def day_rates(
+    pc: NDArray[np.float64], pd: NDArray[np.float64], lay: NDArray[np.int64]
+) -> tuple[float, float]:
+    """The per-capita outflow rates of a day that do not depend on the state.
+
+    Parameters
+    ----------
+    pc, pd, lay : ndarray
+        Parameter, daily and layout arrays.
+
+    Returns
+    -------
+    stages : float
+        Fastest Erlang stage rate: latent, infectious, onset-to-admission,
+        ward and ICU stages of every band, and dose-to-protection [1/day].
+    extra : float
+        What susceptibles or dosed people lose per capita on top of the
+        force of infection: importations per resident plus the largest
+        dosing rate, or the dose-to-protection rate if larger [1/day].
+    """
+    nb = lay[LAY_BANDS]
+    sc = N_BAND_FIELDS * nb
+    protect = pc[sc + S_PROTECT_RATE]
+    stages = max(pc[sc + S_LATENT_RATE], pc[sc + S_INFECTIOUS_RATE], protect)
+    for field in (P_WAIT_RATE, P_WARD_RATE, P_ICU_RATE):
+        for i in range(nb):
+            stages = max(stages, pc[field * nb + i])
+    dosing = 0.0
+    for i in range(nb):
+        dosing = max(dosing, pd[nb * nb + nb + i])
+    extra = max(pc[sc + S_IMPORTS] / pc[sc + S_TOTAL_POP] + dosing, protect)
+    return stages, extra
+
+
+@njit(cache=True)
+def advance_day(
+    y: NDArray[np.float64],
+    t0: float,
+    pc: NDArray[np.float64],
+    pd: NDArray[np.float64],
+    lay: NDArray[np.int64],
+    floor: int,
+    limit: float,
+    most: int,
+    previous_force: float,
+    work: NDArray[np.float64],
+) -> tuple[int, float, float]:
+    """Advance ``y`` by one day with as many RK4 steps as the step rule asks.
+
+    The step rule (the same for single runs and every ensemble draw): take
+    ``n`` equal steps, at least ``floor``, such that ``h * q <= limit``
+    with ``h = 1 / n`` for every per-capita outflow rate ``q`` met during
+    the day: the Erlang stage rates, and for susceptible and dosed people
+    the force of infection plus importations per resident and dosing (or
+    dose-to-protection). The force of infection is read from every RK4
+    evaluation of the day, so the rule holds for the rates actually met,
+    not an estimate: ``n`` is first chosen from the force at the start of
+    the day times its growth since the start of the previous day (between
+    1 and :data:`FORCE_GROWTH_MAX`), and the day is taken again from its
+    start, with more steps, when a larger force was met or the state
+    stopped being finite.
+
+    Parameters
+    ----------
+    y : ndarray
+        State at ``t0``; overwritten with the state at ``t0 + 1`` (left at
+        ``t0`` when the day fails).
+    t0 : float
+        Start of the day [days].
+    pc, pd, lay : ndarray
+        Parameter, daily and layout arrays.
+    floor : int
+        Fewest RK4 steps a day.
+    limit : float
+        Largest (rate x step) allowed [dimensionless]; inf takes exactly
+        ``floor`` steps.
+    most : int
+        Most RK4 steps a day; a day that needs more fails.
+    previous_force : float
+        Largest per-capita force of infection at the start of the previous
+        day [1/day] (0 on day 0).
+    work : ndarray
+        Scratch space of shape (8, y.size); rows 6 and 7 keep the
+        derivative and the state at ``t0`` for a second attempt.
+
+    Returns
+    -------
+    steps : int
+        RK4 steps taken, or -1 when the day would need more than ``most``.
+    start_force : float
+        Largest per-capita force of infection at ``t0`` [1/day].
+    rate : float
+        Largest per-capita outflow rate met during the last attempt
+        [1/day].
+    """
+    size = y.size
+    force_at = 5 * lay[LAY_BANDS]
+    rhs(t0, y, pc, pd, lay, work[0], work[5])
+    start_force = work[5, force_at]
+    stages, extra = day_rates(pc, pd, lay)
+    growth = 1.0
+    if previous_force > 0.0 and start_force > previous_force:
+        growth = min(start_force / previous_force, FORCE_GROWTH_MAX)
+    steps = floor
+    if limit < np.inf:
+        need = max(stages, start_force * growth + extra) / limit
+        if not need <= most:
+            steps = max(floor, most)
+        elif need > steps:
+            steps = max(floor, int(math.ceil(need)))
+        work[6, :] = work[0]
+        work[7, :] = y
+    rate = 0.0
+    while True:
+        top = rk4_day(y, t0, pc, pd, lay, steps, work, True)
+        rate = max(stages, top + extra)
+        finite = True
+        total = 0.0
+        for q in range(size):
+            total += y[q]
+        if not abs(total) < np.inf:
+            finite = False
+        if limit == np.inf or (finite and rate <= limit * steps * (1.0 + 1e-12)):
+            return steps, start_force, rate
+        y[:] = work[7]
+        work[0, :] = work[6]
+        work[5, force_at] = start_force
+        if steps >= most:
+            return -1, start_force, rate
+        wanted = 2 * steps
+        if rate < np.inf and rate / limit > wanted:
+            wanted = int(math.ceil(1.25 * rate / limit)) if rate / limit < most else most
+        steps = min(most, wanted)
+
+
+@njit(cache=True)
+def tally_health(
+    y: NDArray[np.float64], people: int, reference: float, health: NDArray[np.float64]
+) -> None:
+    """Update the running checks of a run with the state at one day boundary.
+
+    Parameters
+    ----------
+    y : ndarray
+        State.
+    people : int
+        Number of leading entries that hold people.
+    reference : float
+        People at day 0 [persons].
+    health : ndarray, shape (3,)
+        Updated in place: largest ``|sum of people - reference| /
+        reference``, smallest entry of people divided by ``reference`` (both
+        [fraction]) and the count of boundaries with a non-finite number.
+    """
+    total = 0.0
+    low = np.inf
+    for q in range(people):
+        total += y[q]
+        low = min(low, y[q])
+    everything = total
+    for q in range(people, y.size):
+        everything += y[q]
+    if not abs(everything) < np.inf:
+        health[2] += 1.0
+        return
+    health[0] = max(health[0], abs(total - reference) / reference)
+    health[1] = min(health[1], low / reference)
 
 
 @njit(cache=True)
@@ -671,6 +918,13 @@ def contact_matrix(
 
 
 @njit(cache=True)
+def _new_report(report: NDArray[np.float64]) -> None:
+    report[:] = 0.0
+    report[REPORT_LOWEST] = np.inf
+    report[REPORT_FAILED_DAY] = -1.0
+
+
+@njit(cache=True)
 def run_days(
     y0: NDArray[np.float64],
     pc: NDArray[np.float64],
@@ -679,8 +933,10 @@ def run_days(
     iprio: NDArray[np.int64],
     cap: NDArray[np.float64],
     horizon: int,
-    substeps: int,
-) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
+    floor: int,
+    limit: float,
+    most: int,
+) -> tuple[NDArray[np.float64], NDArray[np.int8], NDArray[np.int64], NDArray[np.float64]]:
     """Simulate ``horizon`` days: decide at each boundary, then step the day.
 
     Parameters
@@ -691,37 +947,76 @@ def run_days(
         Parameter, layout, intervention, priority and capacity arrays.
     horizon : int
         Number of days [days].
-    substeps : int
-        RK4 steps per day.
+    floor, limit, most : int, float, int
+        Fewest RK4 steps a day, largest (rate x step) and most steps a day
+        (the step rule of :func:`advance_day`).
 
     Returns
     -------
     states : ndarray, shape (horizon + 1, size)
-        State at each day boundary ``t = 0, 1, ..., horizon``.
+        State at each day boundary ``t = 0, 1, ..., horizon``; nan after a
+        day that failed.
     active : ndarray of int8, shape (horizon, n_interventions)
         1 where an intervention was active during day ``d``.
+    steps : ndarray of int64, shape (horizon,)
+        RK4 steps taken on each day (-1 on a day that failed, 0 after it).
+    report : ndarray, shape (REPORT_SIZE,)
+        The checks of the run (``REPORT_*`` entries).
     """
     size = y0.size
     nb = lay[LAY_BANDS]
     n_int = itab.shape[0]
-    states = np.empty((horizon + 1, size))
+    people = lay[LAY_OFFSET + BLK_CUM_INF]
+    states = np.full((horizon + 1, size), np.nan)
     active = np.zeros((horizon, n_int), dtype=np.int8)
+    steps = np.zeros(horizon, dtype=np.int64)
+    report = np.empty(REPORT_SIZE)
+    _new_report(report)
     status = np.zeros(n_int, dtype=np.int64)
     started = np.zeros(n_int)
     pd = np.zeros(nb * nb + 2 * nb + 1)
-    work = np.empty((6, size))
+    work = np.empty((8, size))
     y = y0.copy()
     y_prev = y0.copy()
+    reference = 0.0
+    for q in range(people):
+        reference += y0[q]
     states[0, :] = y
+    tally_health(y, people, reference, report)
+    force = 0.0
     for day in range(horizon):
         decide_day(day, y, y_prev, pc, lay, itab, iprio, cap, status, started, pd)
         for r in range(n_int):
             if status[r] == STATUS_ACTIVE:
                 active[day, r] = 1
         y_prev[:] = y
-        rk4_day(y, float(day), pc, pd, lay, substeps, work)
+        taken, force, rate = advance_day(
+            y, float(day), pc, pd, lay, floor, limit, most, force, work
+        )
+        report[REPORT_FORCE] = max(report[REPORT_FORCE], force)
+        steps[day] = taken
+        if taken < 0:
+            _record_failure(day, rate, pc, pd, lay, report)
+            break
         states[day + 1, :] = y
-    return states, active
+        tally_health(y, people, reference, report)
+    return states, active, steps, report
+
+
+@njit(cache=True)
+def _record_failure(
+    day: int,
+    rate: float,
+    pc: NDArray[np.float64],
+    pd: NDArray[np.float64],
+    lay: NDArray[np.int64],
+    report: NDArray[np.float64],
+) -> None:
+    stages, extra = day_rates(pc, pd, lay)
+    report[REPORT_FAILED_DAY] = day
+    report[REPORT_RATE] = rate
+    report[REPORT_STAGES] = stages
+    report[REPORT_EXTRA] = extra
 
 
 @njit(parallel=True, cache=True)
@@ -733,17 +1028,21 @@ def run_draws(
     iprio: NDArray[np.int64],
     cap: NDArray[np.float64],
     horizon: int,
-    substeps: NDArray[np.int64],
+    floors: NDArray[np.int64],
+    limit: float,
+    most: int,
     employed: NDArray[np.float64],
     series: NDArray[np.float32] | NDArray[np.float64],
     finals: NDArray[np.float64],
     peaks: NDArray[np.float64],
     peak_days: NDArray[np.int64],
+    steps: NDArray[np.int64],
+    reports: NDArray[np.float64],
 ) -> None:
     """Simulate many parameter draws in parallel, keeping only what the ensemble reports.
 
     Each draw runs exactly the loop of :func:`run_days` (the same decisions
-    and :func:`rk4_day`), on its own flat state; draws are spread over
+    and :func:`advance_day`, so the same step rule), on its own flat state; draws are spread over
     threads with ``prange``. The decisions are :func:`decide_day`'s two parts,
     :func:`decide_measures` every day and :func:`contact_matrix` only on days
     the contact multipliers change (the matrix is the same otherwise), so
@@ -762,8 +1061,11 @@ def run_draws(
         Intervention table of each draw.
     horizon : int
         Number of days [days].
-    substeps : ndarray of int64, shape (draws,)
-        RK4 steps per day of each draw.
+    floors : ndarray of int64, shape (draws,)
+        Fewest RK4 steps a day of each draw.
+    limit, most : float, int
+        Largest (rate x step) and most steps a day (see
+        :func:`advance_day`).
     employed : ndarray, shape (bands,)
         Employed workers per resident of each band [fraction].
     series : ndarray, shape (5, draws, horizon)
@@ -780,6 +1082,11 @@ def run_draws(
         daily admissions [persons/day].
     peak_days : ndarray of int64, shape (draws, 3)
         Output, first day each peak is reached [days since day 0].
+    steps : ndarray of int64, shape (draws,)
+        Output, the most RK4 steps taken on one day by each draw.
+    reports : ndarray, shape (draws, REPORT_SIZE)
+        Output, the checks of each draw (``REPORT_*`` entries); a draw whose
+        day failed stops there.
     """
     n_draws = pcs.shape[0]
     size = y0.size
@@ -791,6 +1098,10 @@ def run_draws(
     n_c = _U(lay[LAY_ICU]) * nb
     o_adm = _U(lay[LAY_OFFSET + BLK_CUM_ADM])
     o_onset = _U(lay[LAY_OFFSET + BLK_CUM_ONSET])
+    people = lay[LAY_OFFSET + BLK_CUM_INF]
+    reference = 0.0
+    for q in range(people):
+        reference += y0[q]
     counters = (
         BLK_CUM_INF, BLK_CUM_ONSET, BLK_CUM_ADM, BLK_CUM_ICU, BLK_D, BLK_CUM_DOSE,
         BLK_WARD_DAYS, BLK_ICU_DAYS,
@@ -800,7 +1111,12 @@ def run_draws(
         itab = itabs[d]
         y = y0.copy()
         y_prev = y0.copy()
-        work = np.empty((6, size))
+        work = np.empty((8, size))
+        report = reports[d]
+        _new_report(report)
+        tally_health(y, people, reference, report)
+        force = 0.0
+        most_taken = 0
         pd = np.zeros(nb * nb + 2 * nb + 1)
         status = np.zeros(n_int, dtype=np.int64)
         started = np.zeros(n_int)
@@ -826,7 +1142,15 @@ def run_draws(
                 if status[r] == STATUS_ACTIVE and int(itab[r, IT_KIND]) == KIND_CONTACTS:
                     closure = max(closure, itab[r, IT_SCHOOL_CLOSURE])
             y_prev[:] = y
-            rk4_day(y, float(day), pc, pd, lay, substeps[d], work)
+            taken, force, rate = advance_day(
+                y, float(day), pc, pd, lay, floors[d], limit, most, force, work
+            )
+            report[REPORT_FORCE] = max(report[REPORT_FORCE], force)
+            if taken < 0:
+                _record_failure(day, rate, pc, pd, lay, report)
+                break
+            most_taken = max(most_taken, taken)
+            tally_health(y, people, reference, report)
             ward = 0.0
             for q in range(n_w):
                 ward += y[o_w + q]
@@ -852,6 +1176,7 @@ def run_draws(
             if admitted > top_a:
                 top_a = admitted
                 peak_days[d, 2] = day
+        steps[d] = most_taken
         peaks[d, 0] = top_w
         peaks[d, 1] = top_c
         peaks[d, 2] = top_a

@@ -7,9 +7,12 @@ only at day boundaries: at the start of each day the decisions (triggers,
 intervention start and end, dose allocation) are taken from the state at
 the boundary and the previous day's admissions, then the day is
 integrated with those parameters held fixed (the season still varies
-smoothly). The production integrator takes a fixed number of classical
-RK4 steps per day; the reference integrates each day with scipy's DOP853
-at tight tolerances and takes the same decisions from its own state.
+smoothly). The production integrator takes equal classical RK4 steps
+within a day, as many as the step rule of
+:func:`prepkit.model.kernels.advance_day` asks (at least the model's
+fewest), and checks the run (:mod:`prepkit.model.health`); the reference
+integrates each day with scipy's DOP853 at tight tolerances and takes the
+same decisions from its own state.
 """
 
 from __future__ import annotations
@@ -22,7 +25,9 @@ from scipy.integrate import solve_ivp
 
 from prepkit.errors import ModelError
 from prepkit.model.compile import CompiledModel
-from prepkit.model.kernels import decide_day, rhs, run_days
+from prepkit.model.diagnose import run_error
+from prepkit.model.health import failed_check, most_substeps
+from prepkit.model.kernels import REPORT_SIZE, decide_day, rhs, run_days
 from prepkit.model.layout import STATUS_ACTIVE, daily_size
 
 
@@ -36,10 +41,17 @@ class Trajectory:
         State at ``t = 0, 1, ..., days``.
     active : ndarray of bool, shape (days, interventions)
         True where an intervention was active during a day.
+    substeps : ndarray of int64, shape (days,)
+        RK4 steps taken on each day (0 for the reference, which chooses its
+        own).
+    report : ndarray, shape (REPORT_SIZE,)
+        The run's checks (see :mod:`prepkit.model.health`).
     """
 
     states: NDArray[np.float64]
     active: NDArray[np.bool_]
+    substeps: NDArray[np.int64]
+    report: NDArray[np.float64]
 
 
 def simulate(
@@ -48,6 +60,7 @@ def simulate(
     y0: NDArray[np.float64] | None = None,
     days: int | None = None,
     substeps: int | None = None,
+    max_step_rate: float | None = None,
 ) -> Trajectory:
     """Simulate a compiled model with the production RK4 integrator.
 
@@ -60,17 +73,32 @@ def simulate(
     days : int, optional
         Days to simulate [days]; default the plan horizon.
     substeps : int, optional
-        RK4 steps per day; default the model's.
+        Fewest RK4 steps per day; default the model's.
+    max_step_rate : float, optional
+        Largest (rate x step) of the step rule; default the model's.
+        ``numpy.inf`` takes exactly ``substeps`` steps every day (to study
+        the integrator; the run may then fail its checks).
 
     Returns
     -------
     Trajectory
-        States at every day boundary and intervention activity.
+        States at every day boundary, intervention activity, steps taken.
+
+    Raises
+    ------
+    ModelError
+        When the run fails a check of :mod:`prepkit.model.health`; the
+        message names the inputs responsible.
     """
     start = model.y0 if y0 is None else np.asarray(y0, dtype=np.float64)
     horizon = model.horizon_days if days is None else int(days)
-    steps = model.substeps if substeps is None else int(substeps)
-    states, active = run_days(
+    floor = model.substeps if substeps is None else int(substeps)
+    limit = model.max_step_rate if max_step_rate is None else float(max_step_rate)
+    try:
+        most = most_substeps(floor, limit)
+    except ValueError as exc:
+        raise ModelError(str(exc)) from None
+    states, active, steps, report = run_days(
         np.ascontiguousarray(start, dtype=np.float64),
         model.pc,
         model.lay,
@@ -78,9 +106,15 @@ def simulate(
         model.iprio,
         model.cap,
         horizon,
-        steps,
+        floor,
+        limit,
+        most,
     )
-    return Trajectory(states=states, active=active.astype(bool))
+    if failed_check(report) is not None:
+        if model.plan is None:
+            raise ModelError(f"{model.description} failed a check of its results")
+        raise run_error(model.plan, model, report, what=model.description)
+    return Trajectory(states=states, active=active.astype(bool), substeps=steps, report=report)
 
 
 def simulate_reference(
@@ -90,6 +124,7 @@ def simulate_reference(
     days: int | None = None,
     rtol: float = 1e-10,
     atol_per_person: float = 1e-9,
+    method: str = "DOP853",
 ) -> Trajectory:
     """Simulate with scipy's DOP853, day by day, taking the same daily decisions.
 
@@ -105,6 +140,10 @@ def simulate_reference(
         Relative tolerance of DOP853.
     atol_per_person : float
         Absolute tolerance as a share of the total population.
+    method : str
+        scipy's integrator: ``"DOP853"``, or ``"Radau"`` (implicit, for runs
+        whose fastest rates make an explicit method take millions of
+        steps).
 
     Returns
     -------
@@ -115,6 +154,9 @@ def simulate_reference(
     ----------
     Hairer E., Norsett S.P., Wanner G. (1993). Solving Ordinary Differential
     Equations I, 2nd ed., Springer (DOP853).
+
+    Hairer E., Wanner G. (1996). Solving Ordinary Differential Equations II,
+    2nd ed., Springer (Radau IIA of order 5).
     """
     y = np.array(model.y0 if y0 is None else y0, dtype=np.float64)
     horizon = model.horizon_days if days is None else int(days)
@@ -122,7 +164,7 @@ def simulate_reference(
     status = np.zeros(n_int, dtype=np.int64)
     started = np.zeros(n_int)
     pd = np.zeros(daily_size(model.layout.bands))
-    scratch = np.empty(5 * model.layout.bands)
+    scratch = np.empty(5 * model.layout.bands + 1)
     states = np.empty((horizon + 1, y.size))
     active = np.zeros((horizon, n_int), dtype=bool)
     states[0] = y
@@ -141,9 +183,10 @@ def simulate_reference(
         )
         active[day] = status == STATUS_ACTIVE
         y_prev = y.copy()
-        sol = solve_ivp(fun, (day, day + 1.0), y, method="DOP853", rtol=rtol, atol=atol)
+        sol = solve_ivp(fun, (day, day + 1.0), y, method=method, rtol=rtol, atol=atol)
         if not sol.success:
             raise ModelError(f"reference integrator failed on day {day}: {sol.message}")
         y = np.ascontiguousarray(sol.y[:, -1])
         states[day + 1] = y
-    return Trajectory(states=states, active=active)
+    return Trajectory(states=states, active=active, substeps=np.zeros(horizon, dtype=np.int64),
+                      report=np.zeros(REPORT_SIZE))
