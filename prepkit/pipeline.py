@@ -645,12 +645,9 @@ def write_pack(
 
 
 def _read(path: Path) -> tuple[Plan, str, tuple[str, ...]]:
-    """The plan, the workbook's SHA-256 (checked to be the bytes read) and its warnings."""
-    before = file_sha256(path) if path.is_file() else ""
+    """The plan, the SHA-256 of the bytes read (the file is read once) and its warnings."""
     plan, warnings = read_plan_with_warnings(path)
-    if before and plan.source.sha256 and before != plan.source.sha256:
-        raise InputChangedError(path, before, plan.source.sha256)
-    return plan, plan.source.sha256 or before, tuple(str(w) for w in warnings)
+    return plan, plan.source.sha256, tuple(str(w) for w in warnings)
 
 
 def _check_unchanged(path: Path, digest: str) -> None:
