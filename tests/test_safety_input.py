@@ -107,7 +107,8 @@ def test_a_named_pipe_given_as_the_workbook_never_blocks(tmp_path: Path) -> None
     fifo = tmp_path / "plan.xlsx"
     os.mkfifo(fifo)
     for args in (["check", str(fifo)],
-                 ["run", str(fifo), "--summary-only", "--summary-json", str(tmp_path / "s.json")]):
+                 ["run", str(fifo), "--summary-only", "--summary-json", str(tmp_path / "s.json")],
+                 ["watch", str(fifo), "-o", str(tmp_path / "pack")]):
         done = _entry(*args, timeout=60)  # before the check, `check` waited here for ever
         assert done.returncode == 2, done
         assert f"found a named pipe, not a file ('{fifo}')" in done.stdout + done.stderr
