@@ -176,6 +176,18 @@ def main(argv: Sequence[str] | None = None) -> int:
     except PrepkitError as exc:
         print(f"prepkit: {exc}", file=sys.stderr)
         return EXIT_INPUT
+    except MemoryError:
+        print("prepkit: this machine ran out of memory; ask for fewer uncertainty draws "
+              "(--draws) or close other programs. Earlier outputs were left as they were.",
+              file=sys.stderr)
+        return EXIT_INPUT
+    except OSError as exc:  # the disk, a permission: the machine's trouble, not prepkit's
+        if os.environ.get("PREPKIT_DEBUG"):
+            raise
+        from prepkit.cli_env import os_error_message
+
+        print(f"prepkit: {os_error_message(exc)}", file=sys.stderr)
+        return EXIT_INPUT
     except Exception as exc:  # the last line of defence: never a traceback for users
         if os.environ.get("PREPKIT_DEBUG"):
             raise
@@ -188,6 +200,22 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def _dispatch(args: argparse.Namespace) -> int:
+    from prepkit import cli_env
+
+    if args.command != "check":  # the commands that stamp a time on what they write
+        cli_env.check_environment()
+    if args.command in ("run", "watch", "demo"):
+        try:
+            note = cli_env.prepare_compiled_model()
+            if note is not None and not getattr(args, "quiet", False):
+                print(note, file=sys.stderr)
+            return _dispatch_command(args)
+        finally:
+            cli_env.remove_temporary_folders()
+    return _dispatch_command(args)
+
+
+def _dispatch_command(args: argparse.Namespace) -> int:
     if args.command == "template":
         return _template(args.path, force=args.force)
     if args.command == "check":

@@ -37,7 +37,7 @@ def exit_codes(done: str = "done", *, interrupted: bool = True) -> str:
         f"  {EXIT_OK}    {done}",
         f"  {EXIT_INPUT}    a problem with the input: mistakes in the workbook (each listed with",
         "       its sheet and cell), a file that cannot be read, a wrong option or output",
-        "       folder",
+        "       folder, or the machine (a full disk, too little memory)",
         f"  {EXIT_INTERNAL}    an internal error (set PREPKIT_DEBUG=1 to see the details)",
     ]
     if interrupted:

@@ -75,7 +75,11 @@ from prepkit.outputs import (  # noqa: E402
     source_date,
 )
 from prepkit.outputs_guard import check_pack_folder, check_summary_path  # noqa: E402
-from prepkit.pipeline_guard import check_draws_option, check_ensemble_memory  # noqa: E402
+from prepkit.pipeline_guard import (  # noqa: E402
+    check_draws_option,
+    check_ensemble_memory,
+    worker_setup,
+)
 from prepkit.plan import Plan  # noqa: E402
 from prepkit.report import context as words  # noqa: E402
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs  # noqa: E402
@@ -424,7 +428,8 @@ def run_jobs(jobs: Sequence[Callable[[], T]], workers: int | None = None) -> lis
     _JOBS = list(jobs)
     try:
         context = multiprocessing.get_context("fork")
-        with context.Pool(processes=min(count, len(jobs))) as pool:
+        with context.Pool(processes=min(count, len(jobs)), initializer=worker_setup,
+                          initargs=(os.getpid(),)) as pool:
             pending = pool.map_async(_run_job, range(len(jobs)), chunksize=1)
             results: list[T] = pending.get(PARALLEL_TIMEOUT_SECONDS)
             return results

@@ -1,4 +1,4 @@
-"""Bounds a run checks before it starts.
+"""Bounds a run checks before it starts, and how its worker processes behave.
 
 * :func:`check_draws_option`: ``--draws`` takes the same range as the
   workbook's "Uncertainty draws" field (read from the schema, so the two can
@@ -8,11 +8,16 @@
   (:func:`ensemble_bytes`) and compared with the memory this machine has
   available, so a run too large is refused with a message saying how many
   draws would fit, instead of failing with a MemoryError after minutes.
+* :func:`worker_setup`: worker processes end when the main process ends,
+  however it ends (killed, interrupted), and print nothing.
 """
 
 from __future__ import annotations
 
+import ctypes
 import os
+import signal
+import sys
 from pathlib import Path
 
 from prepkit.errors import PipelineError
@@ -32,6 +37,7 @@ __all__ = [
     "check_ensemble_memory",
     "draws_that_fit",
     "ensemble_bytes",
+    "worker_setup",
 ]
 
 _DRAWS = FIELDS_BY_NAME["details.draws"]
@@ -245,3 +251,32 @@ def check_ensemble_memory(plan: Plan, *, from_option: bool, remote: bool = False
         "ask for fewer draws, close other programs, or run the draws on a Dask cluster "
         "(--scheduler)",
     )
+
+
+#: ``prctl`` option asking Linux to send a signal when the parent process ends.
+_PR_SET_PDEATHSIG = 1
+
+
+def worker_setup(parent_pid: int) -> None:
+    """Make a forked worker process end with its parent, silently.
+
+    Run as the worker pool's initializer. On Linux the kernel kills the
+    worker (``SIGKILL``, which prints nothing) the moment the main process
+    ends for any reason, so no worker outlives a killed run. Ctrl-C is left
+    to the main process, which stops the pool itself; without this, every
+    worker would print a traceback of its own interruption.
+
+    Parameters
+    ----------
+    parent_pid : int
+        Process id of the main process.
+    """
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    if sys.platform.startswith("linux"):
+        try:
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(_PR_SET_PDEATHSIG, int(signal.SIGKILL), 0, 0, 0)
+        except (OSError, AttributeError):  # pragma: no cover - every Linux libc has prctl
+            pass
+    if os.getppid() != parent_pid:  # the parent ended before the request took effect
+        os._exit(0)

@@ -54,7 +54,7 @@ from prepkit.plan import (
     Vaccination,
     Workforce,
 )
-from prepkit.workbook import schema, validate
+from prepkit.workbook import schema, validate, validate_plan
 from prepkit.workbook.cells import (
     BadValue,
     Got,
@@ -342,6 +342,11 @@ class _Reader:
         if errors or checked is None:
             raise WorkbookError(errors, found_warnings)
         plan = self.build(checked)
+        whole = validate_plan.check_plan(
+            plan, items=self.items, disease_rows=checked.per_band.get("band_disease", {}),
+            scenario_rows=self.tables["scenarios"])
+        if whole:
+            raise WorkbookError(validate.sort_problems(whole), found_warnings)
         records = tuple(record for _, record in sorted(self.records, key=lambda x: x[0]))
         source = Source(path=source.path, sha256=source.sha256, inputs=records)
         return replace(plan, source=source), found_warnings
