@@ -157,7 +157,15 @@ def test_no_room_for_the_pdf_s_temporary_fonts_is_an_output_error(
 # ---- The compiled model's cache ------------------------------------------------------------------
 
 
+def _numba_takes_locator_classes() -> bool:
+    from numba.core import config
+
+    return hasattr(config, "CACHE_LOCATOR_CLASSES")
+
+
 @pytest.mark.slow
+@pytest.mark.skipif(not _numba_takes_locator_classes(),
+                    reason="this numba cannot be told where to look for its cache")
 def test_a_compiled_model_cache_that_cannot_be_written_falls_back_with_a_note(
     tmp_path: Path
 ) -> None:
