@@ -12,65 +12,33 @@ import os
 import shlex
 import shutil
 import sys
-import textwrap
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from prepkit import __version__
+from prepkit.cli_help import (
+    DRAWS_HELP,
+    EXIT_INPUT,
+    EXIT_INTERNAL,
+    EXIT_INTERRUPTED,
+    EXIT_OK,
+    FORCE_HELP,
+    OUTDIR_HELP,
+    QUIET_HELP,
+    WORKBOOK_HELP,
+)
+from prepkit.cli_help import Formatter as _Formatter
+from prepkit.cli_help import epilog as _epilog
+from prepkit.cli_help import exit_codes as _exit_codes
+from prepkit.cli_help import para as _para
 from prepkit.errors import PrepkitError, WorkbookError
 
-EXIT_OK = 0
-EXIT_INTERNAL = 1
-EXIT_INPUT = 2
-EXIT_INTERRUPTED = 130
+__all__ = ["DEMO_OUTDIR", "EXIT_INPUT", "EXIT_INTERNAL", "EXIT_INTERRUPTED", "EXIT_OK", "entry",
+           "main", "typed_command"]
 
 #: Default folder of ``prepkit demo`` (the same as :data:`prepkit.pipeline.DEMO_OUTDIR`;
 #: kept here so that ``--help`` does not load the model).
 DEMO_OUTDIR = Path("prepkit-demo")
-
-
-def _exit_codes(done: str = "done", *, interrupted: bool = True) -> str:
-    lines = [
-        "exit codes:",
-        f"  {EXIT_OK}    {done}",
-        f"  {EXIT_INPUT}    a problem with the input: mistakes in the workbook (each listed with",
-        "       its sheet and cell), a file that cannot be read, a wrong option or output",
-        "       folder",
-        f"  {EXIT_INTERNAL}    an internal error (set PREPKIT_DEBUG=1 to see the details)",
-    ]
-    if interrupted:
-        lines.append(f"  {EXIT_INTERRUPTED}  interrupted with Ctrl-C; earlier outputs are left as "
-                     "they were")
-    return "\n".join(lines)
-
-
-WORKBOOK_HELP = "the planning workbook (.xlsx); it is only read, never changed"
-OUTDIR_HELP = (
-    "folder for the pack (default: <workbook name>-pack beside the workbook, e.g. "
-    "my-plan-pack for my-plan.xlsx); it must be new, empty or hold an earlier pack, as it is "
-    "replaced whole"
-)
-DRAWS_HELP = (
-    "uncertainty draws per scenario and variant (default: the workbook's 'Uncertainty draws' "
-    "on the Plan sheet; 0 = no uncertainty ranges)"
-)
-QUIET_HELP = "print nothing but errors (default: progress messages and a closing summary)"
-
-
-class _Formatter(argparse.RawDescriptionHelpFormatter):
-    """Help with the examples and exit codes as written, and no line broken at a hyphen."""
-
-    def _split_lines(self, text: str, width: int) -> list[str]:
-        return textwrap.wrap(" ".join(text.split()), width, break_on_hyphens=False,
-                             break_long_words=False)
-
-
-def _para(text: str) -> str:
-    return textwrap.fill(text, 79, break_on_hyphens=False, break_long_words=False)
-
-
-def _epilog(examples: str, codes: str | None = None) -> str:
-    return f"{examples}\n\n{_exit_codes() if codes is None else codes}"
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -136,13 +104,15 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
     r.add_argument("-o", "--outdir", type=Path, default=None, help=OUTDIR_HELP)
     r.add_argument("--summary-json", type=Path, default=None, metavar="PATH",
-                   help="also write every metric as JSON to PATH (default: only summary.json "
+                   help="also write every metric as JSON to PATH: a new file, or one prepkit "
+                        "wrote before, outside the pack folder (default: only summary.json "
                         "inside the pack)")
     r.add_argument("--draws", type=int, default=None, metavar="N", help=DRAWS_HELP)
     r.add_argument("--summary-only", action="store_true",
                    help="compute the metrics and write only the JSON summary given by "
                         "--summary-json, no pack (default: write the whole pack)")
     r.add_argument("-q", "--quiet", action="store_true", help=QUIET_HELP)
+    r.add_argument("--force", action="store_true", help=FORCE_HELP)
     r.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="run the uncertainty draws on the Dask cluster whose scheduler is at "
                         "ADDRESS, e.g. tcp://SCHEDULER-HOST:8786; needs prepkit[cluster] "
@@ -162,6 +132,7 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
     w.add_argument("-o", "--outdir", type=Path, default=None, help=OUTDIR_HELP)
     w.add_argument("--draws", type=int, default=None, metavar="N", help=DRAWS_HELP)
+    w.add_argument("--force", action="store_true", help=FORCE_HELP)
 
     d = sub.add_parser(
         "demo", help="run the bundled sample city and write its pack", formatter_class=formatter,
@@ -175,6 +146,7 @@ def _parser() -> argparse.ArgumentParser:
                    help=f"folder for the pack and the copy of the workbook (default: "
                         f"{DEMO_OUTDIR} in the current folder)")
     d.add_argument("-q", "--quiet", action="store_true", help=QUIET_HELP)
+    d.add_argument("--force", action="store_true", help=FORCE_HELP)
     d.add_argument("--draws", type=int, default=None, metavar="N",
                    help="uncertainty draws per scenario and variant (default: the number the "
                         "sample workbook gives; 0 = no uncertainty ranges)")
@@ -204,6 +176,18 @@ def main(argv: Sequence[str] | None = None) -> int:
     except PrepkitError as exc:
         print(f"prepkit: {exc}", file=sys.stderr)
         return EXIT_INPUT
+    except MemoryError:
+        print("prepkit: this machine ran out of memory; ask for fewer uncertainty draws "
+              "(--draws) or close other programs. Earlier outputs were left as they were.",
+              file=sys.stderr)
+        return EXIT_INPUT
+    except OSError as exc:  # the disk, a permission: the machine's trouble, not prepkit's
+        if os.environ.get("PREPKIT_DEBUG"):
+            raise
+        from prepkit.cli_env import os_error_message
+
+        print(f"prepkit: {os_error_message(exc)}", file=sys.stderr)
+        return EXIT_INPUT
     except Exception as exc:  # the last line of defence: never a traceback for users
         if os.environ.get("PREPKIT_DEBUG"):
             raise
@@ -216,6 +200,22 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def _dispatch(args: argparse.Namespace) -> int:
+    from prepkit import cli_env
+
+    if args.command != "check":  # the commands that stamp a time on what they write
+        cli_env.check_environment()
+    if args.command in ("run", "watch", "demo"):
+        try:
+            note = cli_env.prepare_compiled_model()
+            if note is not None and not getattr(args, "quiet", False):
+                print(note, file=sys.stderr)
+            return _dispatch_command(args)
+        finally:
+            cli_env.remove_temporary_folders()
+    return _dispatch_command(args)
+
+
+def _dispatch_command(args: argparse.Namespace) -> int:
     if args.command == "template":
         return _template(args.path, force=args.force)
     if args.command == "check":
@@ -273,6 +273,7 @@ def _run(args: argparse.Namespace) -> int:
         summary_only=args.summary_only,
         quiet=args.quiet,
         scheduler=args.scheduler,
+        force=args.force,
     )
     report = run_workbook(args.workbook, options, say=_sayer(args.quiet))
     if not args.quiet:
@@ -283,7 +284,8 @@ def _run(args: argparse.Namespace) -> int:
 def _demo(args: argparse.Namespace) -> int:
     from prepkit.pipeline import RunOptions, run_demo
 
-    options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=args.quiet)
+    options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=args.quiet,
+                         force=args.force)
     report = run_demo(options, say=_sayer(args.quiet), command=typed_command())
     if not args.quiet:
         print(report)
@@ -298,14 +300,15 @@ def _watch(args: argparse.Namespace) -> int:
         first_use_note,
         run_workbook,
     )
+    from prepkit.pipeline_guard import check_draws_option
     from prepkit.watch import watch_workbook
+    from prepkit.workbook.source_file import read_file
 
-    if not args.workbook.is_file():
-        print(f"prepkit: there is no workbook at {args.workbook}.", file=sys.stderr)
-        return EXIT_INPUT
+    read_file(args.workbook)  # a missing file, a folder or a pipe is refused before watching
+    check_draws_option(args.draws)
     outdir = args.outdir if args.outdir is not None else default_outdir(args.workbook)
-    check_outdir(outdir, args.workbook)  # refused before watching, not at every save
-    options = RunOptions(outdir=outdir, draws=args.draws, quiet=True)
+    check_outdir(outdir, args.workbook, force=args.force)  # refused before watching
+    options = RunOptions(outdir=outdir, draws=args.draws, quiet=True, force=args.force)
 
     def build() -> str:
         return run_workbook(args.workbook, options, say=_sayer(True))

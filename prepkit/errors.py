@@ -129,11 +129,30 @@ def _model_error(message: str, problems: tuple[Problem, ...], draw: int | None) 
     return ModelError(message, problems=problems, draw=draw)
 
 
+class PipelineError(ValueError, PrepkitError):
+    """A run cannot go ahead as asked (an option or the output folder is wrong).
+
+    Parameters
+    ----------
+    field : str
+        The option or path at fault.
+    expected, found : str
+        What was expected and what was given.
+    """
+
+    def __init__(self, field: str, expected: str, found: str) -> None:
+        self.field = field
+        self.expected = expected
+        self.found = found
+        super().__init__(f"{field}: expected {expected}, found {found}")
+
+
 class OutputError(OSError, PrepkitError):
     """An output could not be written."""
 
     def __str__(self) -> str:
-        # Planners need the sentence and the path, not the operating system's error number.
-        if self.strerror and self.filename:
+        # Planners need the sentence and the path, not the operating system's error number;
+        # the path once, where the sentence does not name it already.
+        if self.strerror and self.filename and str(self.filename) not in self.strerror:
             return f"{self.strerror}: {self.filename}"
         return self.strerror or super().__str__()

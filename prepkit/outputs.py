@@ -38,7 +38,12 @@ that made it is gone.
 
 OUTDIR belongs to prepkit: since it is replaced whole, a run refuses to start
 (:class:`UnexpectedFilesError`) when OUTDIR holds anything its manifest does
-not list, so files a planner saved there are never deleted.
+not list, so files a planner saved there are never deleted; and it refuses
+(:class:`EditedFilesError`) when a file the manifest lists no longer has the
+bytes prepkit wrote (a results.xlsx the planner annotated), unless asked to
+replace edited files (``--force``). Both checks run before any work, when
+the staging folder is made, and once more just before the swap
+(:mod:`prepkit.pack_manifest` says what a manifest licenses).
 
 Single files written outside a pack (such as ``prepkit template``'s
 workbook) use :func:`atomic_write_with`: the file at the path is always the
@@ -55,9 +60,7 @@ from __future__ import annotations
 
 import ctypes
 import errno
-import hashlib
 import io
-import json
 import os
 import re
 import secrets
@@ -66,18 +69,30 @@ import sys
 import time
 import zipfile
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path, PurePosixPath
 from types import TracebackType
 
 from prepkit.errors import OutputError, PrepkitError
+from prepkit.pack_manifest import (
+    MANIFEST_NAME,
+    EditedFilesError,
+    Manifest,
+    ManifestEntry,
+    UnexpectedFilesError,
+    file_sha256,
+    read_manifest,
+    relative_files,
+    survey_pack,
+    verify_pack,
+)
 
 __all__ = [
     "normalise_xlsx",
     "MANIFEST_NAME",
     "PAUSE_ENV",
     "AtomicOutputDir",
+    "EditedFilesError",
     "Manifest",
     "ManifestEntry",
     "SourceDateError",
@@ -92,26 +107,15 @@ __all__ = [
     "verify_pack",
 ]
 
-#: File name of the manifest written last into every pack.
-MANIFEST_NAME = "prepkit-manifest.json"
-
 #: Test hook: seconds to pause after each file and before each step of the
 #: swap, so a test can kill a run at a chosen point. Unset in normal use.
 PAUSE_ENV = "PREPKIT_TEST_OUTPUT_PAUSE"
-
-MANIFEST_FORMAT = "prepkit-output-manifest/1"
-
-# Files some desktops drop into any folder a person opens; they are not
-# planner's work and go with the old pack.
-_DESKTOP_LITTER = frozenset({".DS_Store", "Thumbs.db", "desktop.ini"})
 
 # Where process ids cannot be checked, leftovers older than this are stale.
 _STALE_AFTER_SECONDS = 24 * 3600
 
 _AT_FDCWD = -100
 _RENAME_EXCHANGE = 2  # from <linux/fs.h>
-
-_CHUNK = 1 << 20
 
 
 class SourceDateError(ValueError, PrepkitError):
@@ -126,46 +130,13 @@ class SourceDateError(ValueError, PrepkitError):
     def __init__(self, value: str) -> None:
         self.value = value
         super().__init__(
-            f"SOURCE_DATE_EPOCH: expected a whole number of seconds since 1970-01-01 UTC, "
-            f"found {value!r}"
+            f"SOURCE_DATE_EPOCH: expected a whole number of seconds since 1970-01-01 UTC "
+            f"(the run time stamped on the pack), found {value!r}; set it to a number such as "
+            "1700000000, or unset it to stamp the current time"
         )
 
 
-class UnexpectedFilesError(OutputError):
-    """The output folder holds files that prepkit did not write.
-
-    Parameters
-    ----------
-    outdir : pathlib.Path
-        The output folder.
-    names : tuple of str
-        Relative paths of the files and folders not listed in its manifest.
-    """
-
-    #: Names shown in the message; the rest are counted.
-    SHOWN = 4
-
-    def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
-        self.outdir = outdir
-        self.names = names
-        shown = ", ".join(names[: self.SHOWN])
-        if len(names) > self.SHOWN:
-            shown += f" and {len(names) - self.SHOWN} more"
-        super().__init__(
-            errno.EEXIST,
-            f"output folder {outdir}: expected an empty folder or one holding only an earlier "
-            f"prepkit pack (the whole folder is replaced), found files prepkit did not write: "
-            f"{shown}. Nothing was written; choose another output folder, or move those files "
-            "out of it",
-            str(outdir),
-        )
-
-    def __str__(self) -> str:
-        # The folder is named inside the sentence already.
-        return self.strerror or super().__str__()
-
-
-def check_output_dir(outdir: str | os.PathLike[str]) -> None:
+def check_output_dir(outdir: str | os.PathLike[str], *, replace_edited: bool = False) -> None:
     """Refuse an output folder that a pack may not replace, before any work is done.
 
     The same check runs again when the pack is written
@@ -177,48 +148,55 @@ def check_output_dir(outdir: str | os.PathLike[str]) -> None:
     ----------
     outdir : path-like
         Output folder; it may be absent.
+    replace_edited : bool, optional
+        Accept files of the earlier pack that were changed since prepkit
+        wrote them (they are replaced); the planner's ``--force``.
 
     Raises
     ------
     OutputError
-        When ``outdir`` is a file.
+        When ``outdir`` is a file, or lies under one.
     UnexpectedFilesError
         When ``outdir`` holds files or folders its manifest does not list
         (desktop litter such as ``.DS_Store`` is allowed).
+    EditedFilesError
+        When files its manifest lists no longer have the bytes prepkit
+        wrote, and ``replace_edited`` is False.
     """
     target = Path(outdir).expanduser().absolute()
     target = target.resolve() if target.is_symlink() else target
     if not target.exists():
+        _refuse_a_file_above(target)
         return
     if not target.is_dir():
         raise OutputError(
             errno.ENOTDIR, "output folder: expected a folder, found a file", str(target)
         )
-    foreign = _foreign_files(target)
-    if foreign:
-        raise UnexpectedFilesError(target, foreign)
+    survey = survey_pack(target)
+    if survey.foreign:
+        raise UnexpectedFilesError(target, survey.foreign)
+    if survey.edited and not replace_edited:
+        raise EditedFilesError(target, survey.edited)
 
 
-def _foreign_files(outdir: Path) -> tuple[str, ...]:
-    """Files and folders in ``outdir`` that its manifest does not list, sorted."""
-    manifest = read_manifest(outdir)
-    listed = {e.name for e in manifest.files} if manifest else set()
-    if manifest is not None:
-        listed.add(MANIFEST_NAME)
-    allowed_dirs = {str(PurePosixPath(n).parent) for n in listed} | {"."}
-    for name in list(allowed_dirs):
-        allowed_dirs.update(str(p) for p in PurePosixPath(name).parents)
-    foreign = []
-    for root, dirs, names in os.walk(outdir):
-        rel_root = PurePosixPath(Path(root).relative_to(outdir).as_posix())
-        foreign += [str(rel_root / d) for d in dirs if str(rel_root / d) not in allowed_dirs]
-        dirs[:] = [d for d in dirs if str(rel_root / d) in allowed_dirs]
-        foreign += [
-            str(rel_root / n)
-            for n in names
-            if str(rel_root / n) not in listed and n not in _DESKTOP_LITTER
-        ]
-    return tuple(sorted(foreign))
+def _refuse_a_file_above(target: Path) -> None:
+    """Refuse an absent folder whose nearest existing ancestor is not a folder."""
+    for ancestor in target.parents:
+        try:
+            is_dir = ancestor.is_dir()
+            exists = is_dir or ancestor.exists() or ancestor.is_symlink()
+        except OSError:
+            continue
+        if not exists:
+            continue
+        if not is_dir:
+            raise OutputError(
+                errno.ENOTDIR,
+                f"output folder: expected a folder path, found that {ancestor} is a file, so "
+                "no folder can be made under it",
+                str(target),
+            )
+        return
 
 
 def source_date(default: datetime | None = None) -> datetime:
@@ -242,13 +220,17 @@ def source_date(default: datetime | None = None) -> datetime:
     Raises
     ------
     SourceDateError
-        When the variable is set to something other than digits.
+        When the variable is set to something other than digits, or to a
+        moment after the year 9999.
     """
     raw = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
     if raw:
         if not re.fullmatch(r"[0-9]+", raw):
             raise SourceDateError(raw)
-        return datetime.fromtimestamp(int(raw), tz=UTC)
+        try:
+            return datetime.fromtimestamp(int(raw), tz=UTC)
+        except (OverflowError, OSError, ValueError):  # beyond the year 9999
+            raise SourceDateError(raw) from None
     if default is not None:
         return default
     return datetime.now(tz=UTC).replace(microsecond=0)
@@ -300,151 +282,6 @@ def normalise_xlsx(data: bytes, modified: datetime | None = None) -> bytes:
     return out.getvalue()
 
 
-def file_sha256(path: str | os.PathLike[str]) -> str:
-    """SHA-256 of a file's bytes.
-
-    Parameters
-    ----------
-    path : path-like
-        File to hash.
-
-    Returns
-    -------
-    str
-        Lower-case hexadecimal digest (64 characters).
-    """
-    digest = hashlib.sha256()
-    with open(path, "rb") as handle:
-        for chunk in iter(lambda: handle.read(_CHUNK), b""):
-            digest.update(chunk)
-    return digest.hexdigest()
-
-
-@dataclass(frozen=True, kw_only=True)
-class ManifestEntry:
-    """One file of a pack.
-
-    Parameters
-    ----------
-    name : str
-        Path relative to the pack folder, with ``/`` separators.
-    sha256 : str
-        Hexadecimal SHA-256 of the file's bytes.
-    size : int
-        File size [bytes].
-    """
-
-    name: str
-    sha256: str
-    size: int
-
-
-@dataclass(frozen=True, kw_only=True)
-class Manifest:
-    """List of the files of one complete pack, written last.
-
-    Parameters
-    ----------
-    created : str
-        ISO 8601 date of the run (from :func:`source_date`).
-    files : tuple of ManifestEntry
-        Every file of the pack except the manifest, sorted by name.
-    """
-
-    created: str
-    files: tuple[ManifestEntry, ...]
-
-    def to_json(self) -> str:
-        """Manifest as JSON text (stable key order, ending with a newline)."""
-        payload = {
-            "format": MANIFEST_FORMAT,
-            "created": self.created,
-            "files": [{"name": e.name, "sha256": e.sha256, "bytes": e.size} for e in self.files],
-        }
-        return json.dumps(payload, indent=2, sort_keys=True) + "\n"
-
-    @classmethod
-    def from_json(cls, text: str) -> Manifest:
-        """Read a manifest written by :meth:`to_json`.
-
-        Parameters
-        ----------
-        text : str
-            JSON text.
-
-        Returns
-        -------
-        Manifest
-            The manifest.
-
-        Raises
-        ------
-        ValueError
-            When the text is not a prepkit manifest.
-        """
-        payload = json.loads(text)
-        if not isinstance(payload, dict) or payload.get("format") != MANIFEST_FORMAT:
-            raise ValueError(f"manifest: expected format {MANIFEST_FORMAT!r}, found other JSON")
-        files = tuple(
-            ManifestEntry(name=str(f["name"]), sha256=str(f["sha256"]), size=int(f["bytes"]))
-            for f in payload["files"]
-        )
-        return cls(created=str(payload["created"]), files=files)
-
-
-def read_manifest(outdir: str | os.PathLike[str]) -> Manifest | None:
-    """Manifest of the pack in ``outdir``, or None when there is none.
-
-    Parameters
-    ----------
-    outdir : path-like
-        Pack folder.
-
-    Returns
-    -------
-    Manifest or None
-        None when the folder or its manifest is missing or unreadable.
-    """
-    path = Path(outdir) / MANIFEST_NAME
-    try:
-        return Manifest.from_json(path.read_text(encoding="utf-8"))
-    except (OSError, ValueError, KeyError, TypeError):
-        return None
-
-
-def verify_pack(outdir: str | os.PathLike[str]) -> list[str]:
-    """Check a pack folder against its manifest.
-
-    Parameters
-    ----------
-    outdir : path-like
-        Pack folder.
-
-    Returns
-    -------
-    list of str
-        One plain-words problem per missing, changed or unlisted file; empty
-        when the folder holds exactly the files its manifest lists, byte for
-        byte.
-    """
-    root = Path(outdir)
-    manifest = read_manifest(root)
-    if manifest is None:
-        return [f"{root}: no readable {MANIFEST_NAME}"]
-    problems = []
-    listed = {entry.name for entry in manifest.files}
-    for entry in manifest.files:
-        path = root / entry.name
-        if not path.is_file():
-            problems.append(f"{entry.name}: listed in the manifest, missing")
-        elif path.stat().st_size != entry.size or file_sha256(path) != entry.sha256:
-            problems.append(f"{entry.name}: differs from the manifest")
-    for name in _relative_files(root):
-        if name != MANIFEST_NAME and name not in listed:
-            problems.append(f"{name}: not listed in the manifest")
-    return problems
-
-
 class AtomicOutputDir:
     """Context manager that writes a whole pack, then puts it in place.
 
@@ -464,6 +301,10 @@ class AtomicOutputDir:
         Test hook: seconds to pause after each file and before each swap
         step [s]. Defaults to the ``PREPKIT_TEST_OUTPUT_PAUSE`` environment
         variable, else 0.
+    replace_edited : bool, optional
+        Replace files of the previous pack that were changed since prepkit
+        wrote them, instead of refusing (:class:`EditedFilesError`); files
+        its manifest does not list are refused either way.
 
     Examples
     --------
@@ -478,11 +319,13 @@ class AtomicOutputDir:
         *,
         created: datetime | None = None,
         pause: float | None = None,
+        replace_edited: bool = False,
     ) -> None:
         target = Path(outdir).expanduser().absolute()
         # A symlinked OUTDIR is followed, so the link itself is never replaced.
         self.outdir = target.resolve() if target.is_symlink() else target
         self.created = created
+        self.replace_edited = replace_edited
         self.pause = float(os.environ.get(PAUSE_ENV, "0") or 0) if pause is None else pause
         self.manifest: Manifest | None = None
         self._token = f"{os.getpid()}-{secrets.token_hex(4)}"
@@ -493,7 +336,16 @@ class AtomicOutputDir:
 
     def __enter__(self) -> AtomicOutputDir:
         parent = self.outdir.parent
-        parent.mkdir(parents=True, exist_ok=True)
+        self._refuse_foreign_files()
+        try:
+            parent.mkdir(parents=True, exist_ok=True)
+        except OSError as error:
+            raise OutputError(
+                error.errno,
+                f"output folder {self.outdir}: expected to make the folder {parent} it goes in, "
+                f"could not ({error.strerror})",
+                str(self.outdir),
+            ) from error
         recover_output_dir(self.outdir)
         self._refuse_foreign_files()
         staging = parent / f"{_prefix(self.outdir)}staging-{self._token}"
@@ -583,10 +435,13 @@ class AtomicOutputDir:
             The staging path written.
         """
         path = self.path(name)
-        with open(path, "xb") as handle:
-            handle.write(data)
-            handle.flush()
-            os.fsync(handle.fileno())
+        try:
+            with open(path, "xb") as handle:
+                handle.write(data)
+                handle.flush()
+                os.fsync(handle.fileno())
+        except OSError as error:
+            raise self._write_error(name, error) from error
         return path
 
     def write_text(self, name: str, text: str, encoding: str = "utf-8") -> Path:
@@ -635,8 +490,33 @@ class AtomicOutputDir:
                 f"output files: expected every named file to be written, missing {missing}",
                 str(staging),
             )
+        try:
+            manifest = self._write_manifest(staging)
+        except OSError as error:
+            if isinstance(error, OutputError):
+                raise
+            raise self._write_error(MANIFEST_NAME, error) from error
+        self._pause()
+        # Last look before the old pack goes: a file edited or saved there during the run stops it.
+        self._refuse_foreign_files()
+        try:
+            self._swap_into_place()
+        except OSError as error:
+            if isinstance(error, OutputError):
+                raise
+            raise OutputError(
+                error.errno,
+                f"output folder {self.outdir}: could not put the new pack in place "
+                f"({error.strerror or error}); the previous pack is as it was",
+                str(self.outdir),
+            ) from error
+        self._staging = None
+        self.manifest = manifest
+        return manifest
+
+    def _write_manifest(self, staging: Path) -> Manifest:
         entries = []
-        for name in sorted(_relative_files(staging)):
+        for name in sorted(relative_files(staging)):
             path = staging.joinpath(*name.split("/"))
             _fsync_file(path)
             entries.append(
@@ -649,11 +529,15 @@ class AtomicOutputDir:
         _fsync_file(manifest_path)
         for folder in _folders(staging):
             _fsync_dir(folder)
-        self._pause()
-        self._swap_into_place()
-        self._staging = None
-        self.manifest = manifest
         return manifest
+
+    def _write_error(self, name: str, error: OSError) -> OutputError:
+        return OutputError(
+            error.errno,
+            f"output folder {self.outdir}: could not write {name} of the new pack "
+            f"({error.strerror or error}); nothing was changed in the folder",
+            str(self.outdir),
+        )
 
     def abort(self) -> None:
         """Delete the staging folder; OUTDIR stays as it was."""
@@ -668,7 +552,7 @@ class AtomicOutputDir:
             time.sleep(self.pause)
 
     def _refuse_foreign_files(self) -> None:
-        check_output_dir(self.outdir)
+        check_output_dir(self.outdir, replace_edited=self.replace_edited)
 
     def _swap_into_place(self) -> None:
         staging, outdir, parent = self.staging, self.outdir, self.outdir.parent
@@ -783,20 +667,39 @@ def atomic_write_with(path: str | os.PathLike[str], writer: Callable[[Path], obj
     target = Path(path).expanduser().absolute()
     if target.is_symlink():
         target = target.resolve()
-    target.parent.mkdir(parents=True, exist_ok=True)
-    _remove_stale_temporary_files(target)
+    try:
+        target.parent.mkdir(parents=True, exist_ok=True)
+        _remove_stale_temporary_files(target)
+    except OSError as error:
+        raise OutputError(
+            error.errno,
+            f"{target}: expected a folder to write it in, could not make or read "
+            f"{target.parent} ({error.strerror or error})",
+            str(target),
+        ) from error
     temporary = target.with_name(
         f"{_prefix(target)}tmp-{os.getpid()}-{secrets.token_hex(4)}{target.suffix}"
     )
     try:
-        writer(temporary)
+        try:
+            writer(temporary)
+            if temporary.is_file():
+                _fsync_file(temporary)
+        except OSError as error:
+            if isinstance(error, OutputError):
+                raise
+            raise OutputError(
+                error.errno,
+                f"{target}: could not write the file ({error.strerror or error}); it was left "
+                "as it was",
+                str(target),
+            ) from error
         if not temporary.is_file():
             raise OutputError(
                 errno.ENOENT,
                 f"{target.name}: expected the writer to create the file, found nothing written",
                 str(target),
             )
-        _fsync_file(temporary)
         try:
             os.replace(temporary, target)
         except OSError as error:
@@ -857,13 +760,6 @@ def _check_name(name: str) -> str:
     if problem:
         raise ValueError(f"output name: expected {problem}, found {name!r}")
     return str(pure)
-
-
-def _relative_files(root: Path) -> Iterator[str]:
-    for folder, _, names in os.walk(root):
-        rel = Path(folder).relative_to(root)
-        for name in names:
-            yield (rel / name).as_posix()
 
 
 def _folders(root: Path) -> Iterator[Path]:

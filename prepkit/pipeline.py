@@ -64,7 +64,7 @@ import markupsafe  # noqa: E402
 
 from prepkit import __version__  # noqa: E402
 from prepkit.engine import PlanResults, run_plan  # noqa: E402
-from prepkit.errors import PrepkitError  # noqa: E402
+from prepkit.errors import PipelineError, PrepkitError  # noqa: E402
 from prepkit.outputs import (  # noqa: E402
     MANIFEST_NAME,
     AtomicOutputDir,
@@ -73,6 +73,12 @@ from prepkit.outputs import (  # noqa: E402
     file_sha256,
     read_manifest,
     source_date,
+)
+from prepkit.outputs_guard import check_pack_folder, check_summary_path  # noqa: E402
+from prepkit.pipeline_guard import (  # noqa: E402
+    check_draws_option,
+    check_ensemble_memory,
+    worker_setup,
 )
 from prepkit.plan import Plan  # noqa: E402
 from prepkit.report import context as words  # noqa: E402
@@ -142,24 +148,6 @@ PACK_FILES: tuple[tuple[str, str], ...] = (
 )
 
 
-class PipelineError(ValueError, PrepkitError):
-    """A run cannot go ahead as asked (an option or the output folder is wrong).
-
-    Parameters
-    ----------
-    field : str
-        The option or path at fault.
-    expected, found : str
-        What was expected and what was given.
-    """
-
-    def __init__(self, field: str, expected: str, found: str) -> None:
-        self.field = field
-        self.expected = expected
-        self.found = found
-        super().__init__(f"{field}: expected {expected}, found {found}")
-
-
 class InputChangedError(RuntimeError, PrepkitError):
     """The planning workbook changed while prepkit was running.
 
@@ -203,6 +191,10 @@ class RunOptions:
     scheduler : str or None
         Address of a Dask scheduler (``tcp://host:8786``) to run the
         uncertainty draws on; None runs them on this machine.
+    force : bool
+        Replace files of an earlier pack that were changed since prepkit
+        wrote them (``--force``); files prepkit did not write are never
+        replaced.
     """
 
     outdir: Path | None
@@ -211,6 +203,7 @@ class RunOptions:
     summary_only: bool = False
     quiet: bool = False
     scheduler: str | None = None
+    force: bool = False
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -435,7 +428,8 @@ def run_jobs(jobs: Sequence[Callable[[], T]], workers: int | None = None) -> lis
     _JOBS = list(jobs)
     try:
         context = multiprocessing.get_context("fork")
-        with context.Pool(processes=min(count, len(jobs))) as pool:
+        with context.Pool(processes=min(count, len(jobs)), initializer=worker_setup,
+                          initargs=(os.getpid(),)) as pool:
             pending = pool.map_async(_run_job, range(len(jobs)), chunksize=1)
             results: list[T] = pending.get(PARALLEL_TIMEOUT_SECONDS)
             return results
@@ -613,6 +607,7 @@ def write_pack(
     *,
     before_commit: Callable[[], None] | None = None,
     extra: Mapping[str, bytes] | None = None,
+    force: bool = False,
 ) -> Path:
     """Write a pack into ``outdir`` at once (the previous pack or nothing until it is whole).
 
@@ -627,13 +622,16 @@ def write_pack(
         raising from it leaves ``outdir`` as it was.
     extra : mapping of str to bytes, optional
         Further files (the demo's copy of its workbook).
+    force : bool, optional
+        Replace files of the previous pack that were edited since prepkit
+        wrote them (otherwise :class:`~prepkit.outputs.EditedFilesError`).
 
     Returns
     -------
     pathlib.Path
         The output folder.
     """
-    with AtomicOutputDir(outdir, created=None) as out:
+    with AtomicOutputDir(outdir, created=None, replace_edited=force) as out:
         for name, data in {**pack.files, **(extra or {})}.items():
             out.write_bytes(name, data)
         if before_commit is not None:
@@ -645,12 +643,9 @@ def write_pack(
 
 
 def _read(path: Path) -> tuple[Plan, str, tuple[str, ...]]:
-    """The plan, the workbook's SHA-256 (checked to be the bytes read) and its warnings."""
-    before = file_sha256(path) if path.is_file() else ""
+    """The plan, the SHA-256 of the bytes read (the file is read once) and its warnings."""
     plan, warnings = read_plan_with_warnings(path)
-    if before and plan.source.sha256 and before != plan.source.sha256:
-        raise InputChangedError(path, before, plan.source.sha256)
-    return plan, plan.source.sha256 or before, tuple(str(w) for w in warnings)
+    return plan, plan.source.sha256, tuple(str(w) for w in warnings)
 
 
 def _check_unchanged(path: Path, digest: str) -> None:
@@ -662,15 +657,10 @@ def _check_unchanged(path: Path, digest: str) -> None:
         raise InputChangedError(path, digest, now)
 
 
-def _check_draws(draws: int | None) -> None:
-    if draws is not None and draws < 0:
-        raise PipelineError("--draws", "0 or more uncertainty draws", str(draws))
-
-
 def _with_draws(plan: Plan, draws: int | None) -> Plan:
     if draws is None:
         return plan
-    _check_draws(draws)
+    check_draws_option(draws)
     return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=draws))
 
 
@@ -691,7 +681,7 @@ def default_outdir(workbook: Path) -> Path:
     return path.with_name(f"{path.stem}-pack")
 
 
-def check_outdir(outdir: Path, workbook: Path) -> None:
+def check_outdir(outdir: Path, workbook: Path, *, force: bool = False) -> None:
     """Refuse an output folder the pack may not replace; runs before any other work.
 
     Parameters
@@ -700,23 +690,19 @@ def check_outdir(outdir: Path, workbook: Path) -> None:
         The output folder.
     workbook : pathlib.Path
         The planning workbook, which may not lie inside it.
+    force : bool, optional
+        Accept files of an earlier pack edited since prepkit wrote them.
 
     Raises
     ------
     PipelineError
-        When the folder holds the workbook.
+        When the folder is or holds the workbook (however the paths are spelled).
     prepkit.errors.OutputError
-        When it is a file or holds files that are not an earlier pack.
+        When it is a file, lies under one, holds files that are not an
+        earlier pack, or (without ``force``) holds edited pack files.
     """
-    target = outdir.expanduser().absolute().resolve()
-    source = workbook.expanduser().absolute().resolve()
-    if source == target or source.is_relative_to(target):
-        raise PipelineError(
-            "output folder",
-            "a folder that does not hold the planning workbook (the whole folder is replaced)",
-            str(outdir),
-        )
-    check_output_dir(outdir)
+    check_pack_folder(outdir, workbook)
+    check_output_dir(outdir, replace_edited=force)
 
 
 def _closing_report(plan: Plan, results: PlanResults, outdir: Path | None, json_path: Path | None
@@ -745,14 +731,20 @@ def _run(
     steps = _Steps(say, quiet=options.quiet)
     generated = source_date()
     outdir = options.outdir if options.outdir is not None else default_outdir
-    _check_draws(options.draws)  # options and folder first: nothing is read before them
-    if not options.summary_only:
-        check_outdir(outdir, workbook)
+    pack_dir = None if options.summary_only else outdir
+    # Options and output paths first: nothing is read before them.
+    check_draws_option(options.draws)
+    if pack_dir is not None:
+        check_outdir(pack_dir, workbook, force=options.force)
+    if options.summary_json is not None:
+        check_summary_path(options.summary_json, workbook=workbook, outdir=pack_dir)
     steps(f"Reading {workbook.name}")
     plan, digest, notes = _read(workbook)
     for note in notes:
         steps(f"Note: {note}")
     plan = _with_draws(plan, options.draws)
+    check_ensemble_memory(plan, from_option=options.draws is not None,
+                          remote=options.scheduler is not None)
     compiling = first_use_note()
     if compiling is not None:
         steps(compiling)
@@ -766,7 +758,7 @@ def _run(
                                  generated)
         _check_unchanged(workbook, digest)
         if options.summary_json is not None:
-            atomic_write_bytes(options.summary_json, summary)
+            _write_summary(options.summary_json, summary, workbook, None)
         return _closing_report(plan, results, None, options.summary_json)
 
     pack = render_pack(plan, results, ensemble=ensemble, generated=generated, say=steps,
@@ -774,11 +766,18 @@ def _run(
     steps(f"Saving the pack to {outdir}")
     written = write_pack(
         outdir, pack, before_commit=lambda: _check_unchanged(workbook, digest), extra=extra,
+        force=options.force,
     )
     if options.summary_json is not None:
-        atomic_write_bytes(options.summary_json, pack.files["summary.json"])
+        _write_summary(options.summary_json, pack.files["summary.json"], workbook, outdir)
     _check_unchanged(workbook, digest)
     return _closing_report(plan, results, written, options.summary_json)
+
+
+def _write_summary(path: Path, data: bytes, workbook: Path, outdir: Path | None) -> None:
+    """Write the ``--summary-json`` file, checking its path again (a file may have appeared)."""
+    check_summary_path(path, workbook=workbook, outdir=outdir)
+    atomic_write_bytes(path, data)
 
 
 def run_workbook(workbook: Path, options: RunOptions, say: Say) -> str:
@@ -890,7 +889,8 @@ def run_demo(options: RunOptions, say: Say, *, command: str = "prepkit") -> str:
     source = sample_workbook(DEMO_WORKBOOK)
     data = source.read_bytes()
     outdir = options.outdir if options.outdir is not None else DEMO_OUTDIR
-    _keep_edited_demo_workbook(outdir, command)
+    if not options.force:
+        _keep_edited_demo_workbook(outdir, command)
     report = _run(
         source,
         options,

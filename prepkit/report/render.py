@@ -20,6 +20,7 @@ Two steps, kept apart so each can be tested alone:
 from __future__ import annotations
 
 import shutil
+import tempfile
 from collections.abc import Mapping
 from datetime import UTC, datetime
 from pathlib import Path
@@ -29,7 +30,7 @@ import jinja2
 from weasyprint import HTML
 from weasyprint.text.fonts import FontConfiguration
 
-from prepkit.errors import PrepkitError
+from prepkit.errors import OutputError, PrepkitError
 from prepkit.outputs import source_date
 from prepkit.report.safety import AssetFetcher, package_assets_dir
 
@@ -189,6 +190,9 @@ def html_to_pdf(
         When a laid-out page is not ``page_size``.
     ValueError
         When ``page_size`` is not a known paper size.
+    prepkit.errors.OutputError
+        When the PDF cannot be made for want of disk space or a writable
+        temporary folder (weasyprint copies the fonts there).
     """
     if page_size not in PAGE_SIZES_MM:
         raise ValueError(f"page_size: expected one of {sorted(PAGE_SIZES_MM)}, found {page_size!r}")
@@ -197,10 +201,21 @@ def html_to_pdf(
     # weasyprint copies @font-face fonts into a temporary folder that its
     # FontConfiguration removes only when garbage-collected, which never happens in
     # a worker process that ends with os._exit: remove it ourselves.
-    fonts = FontConfiguration()
+    fonts: Any = None
     try:
+        fonts = FontConfiguration()
         return _render_pdf(html, base, url_fetcher, fonts, page_size=page_size, title=title,
                            lang=lang, created=created)
+    except OSError as error:
+        if isinstance(error, OutputError):
+            raise
+        raise OutputError(
+            error.errno,
+            f"briefing-pack.pdf: could not lay out the PDF ({error.strerror or error}); it "
+            f"needs room in the temporary folder {tempfile.gettempdir()} (set TMPDIR to use "
+            "another)",
+            str(error.filename or tempfile.gettempdir()),
+        ) from error
     finally:
         folder = getattr(fonts, "_folder", None)
         if folder:

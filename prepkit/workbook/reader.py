@@ -10,24 +10,19 @@ Every problem is collected before anything is raised, so one
 and cell. Non-fatal notes come back as warnings beside the plan.
 
 The file is read once into memory and never written: the planner's workbook
-is left exactly as it was.
+is left exactly as it was. Only the sheets named in the schema are parsed,
+within the bounds of :mod:`prepkit.workbook.load`.
 """
 
 from __future__ import annotations
 
-import csv
 import datetime as dt
 import hashlib
-import io
 import os
-import warnings
-import zipfile
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from pathlib import Path
 from typing import Any, cast
 
-from openpyxl import load_workbook
 from openpyxl.utils import get_column_letter
 
 from prepkit.errors import Problem, WorkbookError
@@ -59,7 +54,7 @@ from prepkit.plan import (
     Vaccination,
     Workforce,
 )
-from prepkit.workbook import schema, validate
+from prepkit.workbook import schema, validate, validate_plan
 from prepkit.workbook.cells import (
     BadValue,
     Got,
@@ -72,6 +67,7 @@ from prepkit.workbook.cells import (
     show,
     text_of,
 )
+from prepkit.workbook.load import Grid, open_book
 from prepkit.workbook.schema import (
     BAND_HEADER,
     FIELDS_BY_NAME,
@@ -85,17 +81,12 @@ from prepkit.workbook.schema import (
     header_text,
     normalise_header,
 )
+from prepkit.workbook.source_file import MAX_FILE_BYTES, read_file
 
 __all__ = ["read_plan", "read_plan_with_warnings", "MAX_FILE_BYTES"]
 
-#: Largest workbook file read [bytes]; planning workbooks are far smaller.
-MAX_FILE_BYTES = 50 * 1024 * 1024
-#: Largest total unpacked size of the parts of a workbook [bytes].
-MAX_UNPACKED_BYTES = 400 * 1024 * 1024
-
 _SHARE_SETTINGS: tuple[Setting, ...] = ("home", "school", "work")
-_OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
-_XLSX = "an Excel workbook saved as .xlsx"
+_SHEET_KEYS = frozenset(normalise_key(name) for name in SHEET_ORDER)
 
 
 # ---- Public ----------------------------------------------------------------------------------
@@ -145,211 +136,10 @@ def read_plan_with_warnings(path: str | os.PathLike[str]) -> tuple[Plan, tuple[P
     prepkit.errors.WorkbookError
         Listing every problem found (its ``warnings`` holds the warnings).
     """
-    name, data = _file_bytes(path)
-    book = _open_book(data)
+    name, data = read_file(path)
+    book = open_book(data, wanted=lambda title: normalise_key(title) in _SHEET_KEYS)
     source = Source(path=name, sha256=hashlib.sha256(data).hexdigest())
-    return _Reader(book).read(source)
-
-
-# ---- The file --------------------------------------------------------------------------------
-
-def _file_problem(expected: str, found: str) -> WorkbookError:
-    return WorkbookError([Problem(sheet="", cell="", field="file", expected=expected,
-                                  found=found)])
-
-
-def _file_bytes(path: str | os.PathLike[str]) -> tuple[str, bytes]:
-    try:
-        name = os.fspath(path)
-    except TypeError:
-        raise _file_problem("a path to an .xlsx file", f"a {type(path).__name__}") from None
-    if isinstance(name, bytes):
-        name = os.fsdecode(name)
-    try:
-        p = Path(name)
-        if not p.exists():
-            raise _file_problem(_XLSX, f"no file at {name!r}")
-        if p.is_dir():
-            raise _file_problem(_XLSX, f"a folder, not a file ({name!r})")
-        size = p.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise _file_problem(
-                f"a workbook of at most {MAX_FILE_BYTES // (1024 * 1024)} MB",
-                f"a file of {size / (1024 * 1024):.0f} MB",
-            )
-        with p.open("rb") as handle:
-            data = handle.read(MAX_FILE_BYTES + 1)
-    except WorkbookError:
-        raise
-    except OSError as exc:
-        reason = exc.strerror or type(exc).__name__
-        raise _file_problem("a file that can be read", f"it cannot be read: {reason}") from None
-    except ValueError as exc:  # e.g. a NUL character inside the path
-        raise _file_problem("a valid file path", f"an invalid path ({exc})") from None
-    return name, data
-
-
-def _open_book(data: bytes) -> dict[str, _Grid]:
-    """Sheets of the workbook in ``data`` as grids (title -> grid)."""
-    if not data:
-        raise _file_problem(_XLSX, "an empty file")
-    if data.startswith(_OLE_MAGIC):
-        raise _file_problem(
-            _XLSX,
-            "a password-protected workbook or an older .xls file; save it as .xlsx without a "
-            "password",
-        )
-    if not data.startswith(_ZIP_MAGIC):
-        raise _file_problem(_XLSX, _what_file(data))
-    try:
-        with zipfile.ZipFile(io.BytesIO(data)) as archive:
-            infos = archive.infolist()
-            names = {info.filename.lower() for info in infos}
-            mimetype = archive.read("mimetype")[:200] if "mimetype" in names else b""
-    except (zipfile.BadZipFile, zipfile.LargeZipFile, OSError, EOFError, ValueError,
-            NotImplementedError, KeyError):
-        raise _file_problem(_XLSX, "a damaged or incomplete zip file") from None
-    if "xl/workbook.xml" not in names:
-        if b"opendocument" in mimetype:
-            raise _file_problem(_XLSX, "an OpenDocument spreadsheet; save it as .xlsx")
-        raise _file_problem(_XLSX, "a zip file that is not an Excel workbook")
-    if any(info.flag_bits & 0x1 for info in infos):
-        raise _file_problem(_XLSX, "an encrypted zip file")
-    unpacked = sum(info.file_size for info in infos)
-    if unpacked > MAX_UNPACKED_BYTES:
-        raise _file_problem(
-            "a workbook of reasonable size",
-            f"a workbook that unpacks to {unpacked / (1024 * 1024):.0f} MB",
-        )
-    formulas = _load_grids(data, data_only=False)
-    if any(raw.formula is not None for grid in formulas.values() for raw in grid.cells.values()):
-        try:
-            results = _load_grids(data, data_only=True)
-        except WorkbookError:
-            results = {}
-        for title, grid in formulas.items():
-            saved = results.get(title)
-            for pos, raw in list(grid.cells.items()):
-                if raw.formula is None:
-                    continue
-                cached = saved.cells.get(pos) if saved is not None else None
-                value = cached.value if cached is not None else None
-                error = cached.error if cached is not None else False
-                grid.cells[pos] = RawCell(value=value, number_format=raw.number_format,
-                                          formula=raw.formula, error=error)
-    for grid in formulas.values():
-        grid.index()
-    return formulas
-
-
-def _what_file(data: bytes) -> str:
-    """What a file that is no zip archive holds, and how to make a workbook of it."""
-    text = _text_head(data)
-    if text is None:
-        return "a file in another format"
-    save = "open it in a spreadsheet program and save it as an Excel workbook (.xlsx)"
-    lower = text.lstrip().lower()
-    if lower.startswith(("<!doctype html", "<html")):
-        return f"a web page (HTML), not a workbook; {save}"
-    if lower.startswith("<?xml") and "office:spreadsheet" in lower:
-        return f"an Excel 2003 XML spreadsheet, not an .xlsx workbook; {save}"
-    delimiter = _csv_delimiter(text, complete=len(data) <= _SNIFF_BYTES)
-    if delimiter is not None:
-        return (f"a CSV file (plain text, values separated by {delimiter}), not a workbook; "
-                f"{save}")
-    return f"a text file, not a workbook; {save}"
-
-
-#: Bytes of a file looked at to tell what it is.
-_SNIFF_BYTES = 16384
-_ZIP_MAGIC = (b"PK\x03\x04", b"PK\x05\x06")
-_TEXT_BOMS = ((b"\xef\xbb\xbf", "utf-8-sig"), (b"\xff\xfe", "utf-16"), (b"\xfe\xff", "utf-16"))
-_DELIMITERS = {",": "commas", ";": "semicolons", "\t": "tabs"}
-
-
-def _text_head(data: bytes) -> str | None:
-    """The start of a text file (UTF-8, UTF-16 with a byte order mark, or Latin-1), else None."""
-    head = data[:_SNIFF_BYTES]
-    for bom, encoding in _TEXT_BOMS:
-        if head.startswith(bom):
-            return head.decode(encoding, errors="ignore")
-    if b"\x00" in head:
-        return None
-    for cut in range(4):  # the sample may end inside a character
-        try:
-            return head[: len(head) - cut].decode("utf-8")
-        except UnicodeDecodeError:
-            continue
-    text = head.decode("latin-1")
-    printable = sum(ch.isprintable() or ch in "\t\r\n" for ch in text)
-    return text if printable >= 0.95 * len(text) else None
-
-
-def _csv_delimiter(text: str, *, complete: bool) -> str | None:
-    """Words for the delimiter when ``text`` reads as CSV (rows of two or more fields)."""
-    lines = [line for line in text.splitlines() if line.strip()]
-    if not complete and len(lines) > 1:
-        lines = lines[:-1]  # the last line of the sample may be cut short
-    lines = lines[:50]
-    if not lines:
-        return None
-    for mark, words in _DELIMITERS.items():
-        widths = [len(row) for row in csv.reader(lines, delimiter=mark)]
-        modal = max(sorted(set(widths)), key=widths.count)
-        if modal >= 2 and widths.count(modal) >= 0.8 * len(widths):
-            return words
-    return None
-
-
-def _load_grids(data: bytes, data_only: bool) -> dict[str, _Grid]:
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            workbook = load_workbook(io.BytesIO(data), data_only=data_only, keep_links=False)
-    except Exception as exc:  # openpyxl raises many kinds on damaged files; all mean the same
-        reason = " ".join(str(exc).split())[:160] or type(exc).__name__
-        raise _file_problem(
-            _XLSX, f"a workbook that cannot be opened ({type(exc).__name__}: {reason})"
-        ) from None
-    grids: dict[str, _Grid] = {}
-    for ws in workbook.worksheets:
-        cells: dict[tuple[int, int], RawCell] = {}
-        for (row, col), cell in ws._cells.items():  # only cells that exist: no huge ranges
-            value: Any = cell.value
-            if value is None:
-                continue
-            kind = cell.data_type
-            if kind == "f" and not data_only:
-                text = value if isinstance(value, str) else getattr(value, "text", None)
-                cells[(row, col)] = RawCell(value=None, number_format=cell.number_format,
-                                            formula=str(text or value))
-            else:
-                cells[(row, col)] = RawCell(value=value, number_format=cell.number_format,
-                                            error=kind == "e")
-        grids[ws.title] = _Grid(title=ws.title, cells=cells)
-    return grids
-
-
-@dataclass
-class _Grid:
-    """The filled cells of one sheet."""
-
-    title: str
-    cells: dict[tuple[int, int], RawCell]
-    by_row: dict[int, dict[int, RawCell]] = field(default_factory=dict)
-    rows: list[int] = field(default_factory=list)
-
-    def index(self) -> None:
-        self.by_row = {}
-        for (row, col), raw in self.cells.items():
-            self.by_row.setdefault(row, {})[col] = raw
-        self.rows = sorted(self.by_row)
-
-    def get(self, row: int, col: int) -> RawCell | None:
-        return self.cells.get((row, col))
-
-    def row(self, row: int) -> dict[int, RawCell]:
-        return self.by_row.get(row, {})
+    return _Reader(book.grids, book.other_sheets).read(source)
 
 
 def _ref(row: int, col: int) -> str:
@@ -372,7 +162,7 @@ class _TableHeader:
     duplicates: tuple[int, ...]
 
 
-def _find_item_header(grid: _Grid) -> _ItemHeader | None:
+def _find_item_header(grid: Grid) -> _ItemHeader | None:
     item = normalise_header(schema.ITEM_HEADER)
     value_heads: tuple[tuple[Level, str], ...] = (
         ("central", normalise_header(schema.VALUE_HEADER)),
@@ -405,7 +195,7 @@ def _table_headings(table: str) -> dict[str, Key]:
     }
 
 
-def _find_table_header(grid: _Grid, table: str) -> _TableHeader | None:
+def _find_table_header(grid: Grid, table: str) -> _TableHeader | None:
     headings = _table_headings(table)
     key: Key = (TABLES[table].key, "central")
     best: _TableHeader | None = None
@@ -430,8 +220,9 @@ def _find_table_header(grid: _Grid, table: str) -> _TableHeader | None:
 class _Reader:
     """Collects located inputs and problems, checks them, builds the plan."""
 
-    def __init__(self, book: dict[str, _Grid]) -> None:
+    def __init__(self, book: dict[str, Grid], other_sheets: Mapping[str, str]) -> None:
         self.book = book
+        self.other_sheets = other_sheets
         self.problems: list[Problem] = []
         self.items: dict[Key, Got] = {}
         self.tables: dict[str, list[TableRow]] = {name: [] for name in TABLES}
@@ -503,7 +294,7 @@ class _Reader:
 
     # -- sheets
 
-    def grid(self, name: str) -> _Grid | None:
+    def grid(self, name: str) -> Grid | None:
         grid = self.book.get(name)
         if grid is None:
             want = normalise_key(name)
@@ -515,13 +306,31 @@ class _Reader:
     def title(self, name: str) -> str:
         return self.titles.get(name, name)
 
+    def no_grid(self, name: str) -> tuple[str, str] | None:
+        """Title and kind of a sheet named ``name`` that holds no cells (a chart sheet), or None."""
+        want = normalise_key(name)
+        return next(((t, kind) for t, kind in self.other_sheets.items()
+                     if normalise_key(t) == want), None)
+
+    def missing(self, name: str) -> str:
+        """What stands where the sheet ``name`` should be, for messages."""
+        other = self.no_grid(name)
+        if other is None:
+            return "no such sheet"
+        return f"{other[1]} named '{other[0]}', which holds no cells"
+
     def read(self, source: Source) -> tuple[Plan, tuple[Problem, ...]]:
         for sheet in SHEET_ORDER:
             if sheet in MATRIX_SHEETS.values():
                 continue
             grid = self.grid(sheet)
             if grid is None and sheet in REQUIRED_SHEETS:
-                self.report(sheet, "", "sheet", f"a sheet named '{sheet}'", "no such sheet")
+                self.report(sheet, "", "sheet", f"a sheet of cells named '{sheet}'",
+                            self.missing(sheet))
+            elif grid is None and self.no_grid(sheet) is not None:
+                self.report(sheet, "", "sheet",
+                            f"a sheet of cells named '{sheet}' (the sheet is ignored)",
+                            self.missing(sheet), warning=True)
             self.read_sheet(sheet, grid)
         checked = self.check()
         problems = validate.sort_problems(self.problems)
@@ -533,11 +342,16 @@ class _Reader:
         if errors or checked is None:
             raise WorkbookError(errors, found_warnings)
         plan = self.build(checked)
+        whole = validate_plan.check_plan(
+            plan, items=self.items, disease_rows=checked.per_band.get("band_disease", {}),
+            scenario_rows=self.tables["scenarios"])
+        if whole:
+            raise WorkbookError(validate.sort_problems(whole), found_warnings)
         records = tuple(record for _, record in sorted(self.records, key=lambda x: x[0]))
         source = Source(path=source.path, sha256=source.sha256, inputs=records)
         return replace(plan, source=source), found_warnings
 
-    def read_sheet(self, sheet: str, grid: _Grid | None) -> None:
+    def read_sheet(self, sheet: str, grid: Grid | None) -> None:
         item_fields = schema.sheet_fields(sheet)
         tables = [t for t in TABLES.values() if t.sheet == sheet]
         title = grid.title if grid is not None else sheet
@@ -577,7 +391,7 @@ class _Reader:
                 continue
             self.read_table(grid, t.name, header, _next_start(starts, header.row))
 
-    def read_items(self, grid: _Grid, sheet: str, header: _ItemHeader, stop: int | None) -> None:
+    def read_items(self, grid: Grid, sheet: str, header: _ItemHeader, stop: int | None) -> None:
         fields = {normalise_header(f.label): f for f in schema.sheet_fields(sheet)}
         rows: dict[str, int] = {}
         for r in grid.rows:
@@ -615,7 +429,7 @@ class _Reader:
                 continue
             self.read_item_row(grid, f, header, r_found)
 
-    def read_item_row(self, grid: _Grid, f: Field, header: _ItemHeader, r: int) -> None:
+    def read_item_row(self, grid: Grid, f: Field, header: _ItemHeader, r: int) -> None:
         central_col = header.cols["central"]
         central = self.got(f, "central", grid.title, _ref(r, central_col),
                            grid.get(r, central_col), field_label(f, "central"))
@@ -632,7 +446,7 @@ class _Reader:
                             f"a blank cell ({f.label} has no Low or High); the value is not "
                             "used", show(raw), warning=True)
 
-    def read_table(self, grid: _Grid, table: str, header: _TableHeader,
+    def read_table(self, grid: Grid, table: str, header: _TableHeader,
                    stop: int | None) -> None:
         t = TABLES[table]
         self.table_found[table] = True
@@ -672,7 +486,7 @@ class _Reader:
         self.tables[table] = rows
         self.empty_cells[table] = _ref(last_row + 1, key_col)
 
-    def read_table_cell(self, grid: _Grid, f: Field, header: _TableHeader, r: int, noun: str,
+    def read_table_cell(self, grid: Grid, f: Field, header: _TableHeader, r: int, noun: str,
                         key: str) -> dict[Key, Got]:
         gots: dict[Key, Got] = {}
         central: Got | None = None
@@ -705,7 +519,7 @@ class _Reader:
             if matrix is None:
                 self.report(sheet, "", sheet,
                             "a filled contact-matrix sheet (fill all four or none)",
-                            "no such sheet")
+                            self.missing(sheet))
             elif matrix.header_row is None:
                 self.report(matrix.title, "", BAND_HEADER,
                             f"a header row starting with '{BAND_HEADER}' and the band labels "
@@ -1105,7 +919,7 @@ class _Matrix:
     """What a contact-matrix sheet holds around its ``Band`` header."""
 
     title: str
-    grid: _Grid
+    grid: Grid
     header_row: int | None
     band_col: int
     filled: bool
@@ -1114,7 +928,7 @@ class _Matrix:
     values: dict[tuple[str, str], Got] = field(default_factory=dict)
 
     @classmethod
-    def scan(cls, grid: _Grid, header_row: int, band_col: int) -> _Matrix:
+    def scan(cls, grid: Grid, header_row: int, band_col: int) -> _Matrix:
         label_cols = tuple(c for c, raw in sorted(grid.row(header_row).items())
                            if c > band_col and not raw.blank)
         label_rows = tuple(r for r in grid.rows if r > header_row
