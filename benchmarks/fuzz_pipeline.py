@@ -50,10 +50,12 @@ for _folder in (HERE, ROOT / "tests"):
     if str(_folder) not in sys.path:
         sys.path.insert(0, str(_folder))
 
-# One thread per worker: the workers are the parallelism, and BLAS or numba threads
-# competing for the same cores make each case many times slower.
-for _name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "NUMBA_NUM_THREADS"):
-    os.environ.setdefault(_name, "1")
+#: Thread settings for a fuzzing run, set by :func:`main` only (never at import, so a test
+#: process that imports this module keeps its own numba and BLAS threads): one thread per
+#: worker, since the workers are the parallelism and competing threads make each case many
+#: times slower.
+THREAD_SETTINGS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS",
+                   "NUMBA_NUM_THREADS")
 
 from fuzz_cells import Base, Change, load_bases, range_changes  # noqa: E402
 from fuzz_checks import JobResult, failed, run_job  # noqa: E402
@@ -291,6 +293,8 @@ def fuzz(settings: Settings, count: int, workers: int,
 
 
 def main(argv: list[str] | None = None) -> int:
+    for name in THREAD_SETTINGS:
+        os.environ.setdefault(name, "1")
     parser = argparse.ArgumentParser(description=(__doc__ or "").splitlines()[0])
     parser.add_argument("--count", type=int, default=2000, help="mutated workbooks to try")
     parser.add_argument("--seed", type=int, default=20270101, help="random seed")
