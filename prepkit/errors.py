@@ -104,8 +104,8 @@ class ModelError(ValueError, PrepkitError):
         plan was not read from a workbook), field, expected and found; empty
         when no single input is to blame.
     draw : int or None
-        The uncertainty draw that failed (counted from 0), None for a single
-        run.
+        The uncertainty draw (or one-input-at-a-time run of the tornado) that
+        failed, counted from 0; None for a single run.
     """
 
     def __init__(

@@ -659,8 +659,9 @@ class EnsembleResult:
         ``unmet_bed_days_baseline``, ``swing_bed_days``.
     per_draw : pandas.DataFrame
         One row per draw (index ``draw``): the sampled quantile of every
-        field (``{key}_quantile``), the scalar inputs, beta, RK4 substeps,
-        peak dates and every :data:`SUMMARY_METRICS` value.
+        field (``{key}_quantile``), the scalar inputs, beta, the most RK4
+        substeps taken on one day (``substeps_per_day``), peak dates and
+        every :data:`SUMMARY_METRICS` value.
     sampling : pandas.DataFrame
         One row per field and band: ``field``, ``label``, ``unit``,
         ``band`` (``"all"`` for scalar fields), ``distribution`` (``PERT`` or
@@ -1060,7 +1061,10 @@ def run_ensemble(
     Raises
     ------
     ModelError
-        When the plan cannot be simulated or a range is not ordered.
+        When the plan cannot be simulated, a range is not ordered, or a draw
+        (or a one-input-at-a-time run of the tornado) fails a check of
+        :mod:`prepkit.model.health`: the error names the draw and its inputs,
+        and no result is returned.
     """
     started = time.perf_counter()
     validate_plan(plan)

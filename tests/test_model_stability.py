@@ -19,14 +19,25 @@ from typing import Any
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from prepkit.engine import compile_scenario, run_scenario
 from prepkit.errors import ModelError
 from prepkit.model.ensemble import simulate_draws
 from prepkit.model.health import DRIFT_TOLERANCE, MAX_RATE_PER_DAY, NEGATIVE_TOLERANCE
-from prepkit.model.layout import BLK_C, BLK_CUM_INF, BLK_W
+from prepkit.model.layout import (
+    BLK_C,
+    BLK_CUM_INF,
+    BLK_W,
+    S_GROWTH_BOUND,
+    S_GROWTH_STEP,
+    S_LATENT_RATE,
+    scalar_offset,
+)
 from prepkit.model.simulate import simulate, simulate_reference
+from prepkit.model.transmissibility import growth_rate
 from prepkit.plan import Plan, Range3
 from prepkit.uncertainty import draw_values, run_ensemble, sample_quantiles
 from prepkit.workbook import read_plan
@@ -167,7 +178,11 @@ def test_contradictory_inputs_stop_with_their_cells_named(town: Plan) -> None:
         run_scenario(plan, plan.scenarios[0], True)
     error = caught.value
     assert error.draw is None
-    assert error.fields == ("Doubling time", "Latent period", "Infectious period")
+    assert error.fields[:3] == ("Doubling time", "Latent period", "Infectious period")
+    # and the band where the force of infection is largest, with what drives it there
+    band = error.fields[3].split(", band ")[1]
+    assert error.fields[3:] == (f"Relative susceptibility, band {band}",
+                                f"Daily contacts, band {band}")
     cells = {p.field: (p.sheet, p.cell) for p in error.problems}
     records = {r.label: (r.sheet, r.cell) for r in plan.source.inputs}
     for label, where in cells.items():
@@ -286,7 +301,14 @@ def test_steps_follow_the_force_of_infection_day_by_day(town: Plan) -> None:
     model = compile_scenario(plan, plan.scenarios[0], False)
     run = simulate(model)
     steps = run.substeps
-    assert steps.min() == model.substeps  # quiet days keep the fewest steps
+    # quiet days take what the rates fixed for the run ask: the fewest steps, the growth
+    # bound within its step (a rise by e^G in G / z steps loses G z^4 / 120: the Taylor
+    # remainder of exp beyond the RK4 polynomial, common practice, no source), the stages
+    sc = scalar_offset(model.layout.bands)
+    growth = model.pc[sc + S_GROWTH_BOUND] / min(model.max_step_rate,
+                                                 model.pc[sc + S_GROWTH_STEP])
+    stages = model.pc[sc + S_LATENT_RATE] / model.max_step_rate
+    assert steps.min() == max(model.substeps, math.ceil(growth), math.ceil(stages))
     busiest = int(np.argmax(steps))
     # more steps where the epidemic is fastest, i.e. near the peak of infections
     infections = np.diff(model.layout.block_total(run.states, BLK_CUM_INF).sum(axis=1))
@@ -297,3 +319,66 @@ def test_steps_follow_the_force_of_infection_day_by_day(town: Plan) -> None:
         a = model.layout.block_total(run.states, block).sum(axis=1).max()
         b = model.layout.block_total(fixed.states, block).sum(axis=1).max()
         assert_allclose(a, b, rtol=1e-4)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    bands=st.integers(1, 3),
+    r0=st.floats(0.5, 30.0),
+    latent=st.floats(0.1, 20.0),
+    latent_stages=st.integers(1, 6),
+    infectious=st.floats(0.1, 20.0),
+    infectious_stages=st.integers(1, 6),
+    onset=st.floats(0.1, 20.0),
+    wait_stages=st.integers(1, 4),
+    rho=st.floats(0.0, 1.0),
+    amplitude=st.floats(0.0, 0.9),
+    admitted=st.floats(0.0, 1.0),
+)
+def test_the_growth_bound_is_never_below_the_growth_rate(
+    bands: int, r0: float, latent: float, latent_stages: int, infectious: float,
+    infectious_stages: int, onset: float, wait_stages: int, rho: float, amplitude: float,
+    admitted: float,
+) -> None:
+    # The growth rate is the dominant eigenvalue of F - V (Wallinga & Lipsitch 2007, Proc R
+    # Soc B 274:599); at the seasonal peak it is the largest the run can reach.
+    import datetime as dt
+
+    from factories import make_plan
+
+    plan = make_plan(
+        populations=tuple(1e5 * (i + 1) for i in range(bands)), r0=r0, latent_days=latent,
+        latent_stages=latent_stages, infectious_days=infectious,
+        infectious_stages=infectious_stages, symptomatic_share=0.7, rho=rho,
+        admitted_share=0.7 * admitted, onset_to_admission=tuple(onset * (1 + i)
+                                                               for i in range(bands)),
+        wait_stages=wait_stages, seasonal_amplitude=amplitude,
+        seasonal_peak=dt.date(2000, 1, 15), mean_daily=tuple(5.0 + 3 * i for i in range(bands)),
+        horizon=10,
+    )
+    model = compile_scenario(plan, "base", True)
+    bound = model.pc[scalar_offset(model.layout.bands) + S_GROWTH_BOUND]
+    peak = growth_rate(model.pc, model.layout, season=1.0 + amplitude)
+    assert bound >= peak - 1e-9 * max(1.0, abs(peak))
+
+
+@pytest.mark.parametrize(("r0", "latent", "stages", "amplitude"),
+                         [(2.5, 3.0, 2, 0.0), (30.0, 0.1, 1, 0.9), (1.2, 60.0, 10, 0.3)])
+def test_the_growth_bound_is_exact_for_one_infectious_chain(
+    r0: float, latent: float, stages: int, amplitude: float
+) -> None:
+    # Erlang SEIR in one band, nobody admitted, a slow onset-to-admission chain: the
+    # Euler-Lotka relation (Wallinga & Lipsitch 2007, Proc R Soc B 274:599, for the SEIR with
+    # Erlang stages) has one chain, so the bound is the growth rate itself.
+    import datetime as dt
+
+    from factories import make_plan
+
+    plan = make_plan(r0=r0, latent_days=latent, latent_stages=stages, infectious_days=4.0,
+                     infectious_stages=stages, symptomatic_share=1.0, admitted_share=0.0,
+                     onset_to_admission=60.0, seasonal_amplitude=amplitude,
+                     seasonal_peak=dt.date(2000, 1, 15), horizon=10)
+    model = compile_scenario(plan, "base", True)
+    bound = model.pc[scalar_offset(model.layout.bands) + S_GROWTH_BOUND]
+    peak = growth_rate(model.pc, model.layout, season=1.0 + amplitude)
+    assert_allclose(bound, peak, rtol=1e-6)

@@ -38,6 +38,7 @@ from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
 from prepkit.model.contacts import setting_matrices
+from prepkit.model.health import growth_bound, growth_step
 from prepkit.model.inputs import ResolvedInputs
 from prepkit.model.kernels import season_factor
 from prepkit.model.layout import (
@@ -80,6 +81,8 @@ from prepkit.model.layout import (
     P_WARD_RATE,
     S_BETA,
     S_DOSE_TO_WAITING,
+    S_GROWTH_BOUND,
+    S_GROWTH_STEP,
     S_IMPORTS,
     S_INFECTIOUS_RATE,
     S_LATENT_RATE,
@@ -97,6 +100,7 @@ from prepkit.model.layout import (
 )
 from prepkit.model.natural_history import isolation_multiplier
 from prepkit.model.transmissibility import (
+    NOBODY_INFECTS,
     Transmissibility,
     beta_for_growth_rate,
     beta_for_r0,
@@ -104,6 +108,7 @@ from prepkit.model.transmissibility import (
     growth_rate,
     mean_generation_time,
     reproduction_number,
+    transmission_is_finite,
 )
 from prepkit.plan import SETTINGS, Plan, Scenario
 
@@ -339,7 +344,20 @@ def compile_model(
         if value <= 0.0:
             raise ModelError(f"doubling time must be positive, found {value:.4g} days")
         beta = beta_for_growth_rate(math.log(2.0) / value, pc, layout)
+    if not transmission_is_finite(beta, pc, layout):
+        raise ModelError(NOBODY_INFECTS)
     pc[sc + S_BETA] = beta
+    pc[sc + S_GROWTH_BOUND] = float(growth_bound(
+        measure, value,
+        latent=(pc[sc + S_LATENT_RATE], layout.latent_stages),
+        infectious=(pc[sc + S_INFECTIOUS_RATE], layout.infectious_stages),
+        waiting=(float(np.max(pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb])),
+                 layout.wait_stages),
+        amplitude=disease.seasonal_amplitude,
+    ))
+    pc[sc + S_GROWTH_STEP] = growth_step(
+        total, disease.initial_infections + disease.daily_importations
+    )
 
     itab = np.zeros((len(items), IT_FIXED_COLUMNS + nb))
     iprio = np.full((len(items), nb), -1, dtype=np.int64)

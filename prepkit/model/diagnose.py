@@ -12,15 +12,18 @@ declares):
   onset-to-admission, ward or ICU stage, or the days to protection, whose
   stage rate ``stages / mean`` exceeds the limit;
 * too fast because of importations: infections from outside per resident;
-* too fast because of the force of infection: the transmissibility input
+* too fast because of the growth of infections: the transmissibility input
   with the latent and infectious periods (and the R0 they imply);
+* too fast because of the force of infection: the same, with the relative
+  susceptibility and daily contacts of the band where it is largest;
 * any other failed check: the inputs that drive the speed of the epidemic.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
@@ -42,9 +45,21 @@ from prepkit.model.kernels import (
     REPORT_RATE,
     REPORT_STAGES,
 )
-from prepkit.model.layout import S_IMPORTS, S_PROTECT_RATE, S_TOTAL_POP, scalar_offset
+from prepkit.model.layout import (
+    N_SETTINGS,
+    P_SUSCEPTIBILITY,
+    S_GROWTH_BOUND,
+    S_IMPORTS,
+    S_PROTECT_RATE,
+    S_TOTAL_POP,
+    matrix_offset,
+    scalar_offset,
+)
 from prepkit.model.transmissibility import reproduction_number
 from prepkit.plan import Plan
+
+if TYPE_CHECKING:  # the ensemble module imports this one
+    from prepkit.model.ensemble import DrawValues
 
 TRANSMISSIBILITY_FIELDS = {
     "r0": ("disease.r0", ""),
@@ -119,6 +134,27 @@ def _spread_suspects(plan: Plan, inputs: ResolvedInputs, ranged: bool) -> list[S
         high = spread.high if (ranged and spread is not None) else None
         out.append(Suspect(name=key, suffix="", value=float(value), unit=unit_of, low=low,
                            high=high))
+    return out
+
+
+def _most_exposed(plan: Plan, model: CompiledModel, pc: NDArray[np.float64]) -> int:
+    """The band with the largest ``sigma_i sum_j C_ij``: the force of infection is largest there."""
+    nb = model.layout.bands
+    mo = matrix_offset(nb)
+    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
+    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
+    return int(np.argmax(sigma * contacts.sum(axis=1)))
+
+
+def _band_suspects(plan: Plan, band: int) -> list[Suspect]:
+    """Relative susceptibility and (simple contacts form) daily contacts of one band."""
+    suffix = f", band {plan.bands[band].label}"
+    out = [Suspect(name="band_disease.relative_susceptibility", suffix=suffix,
+                   value=float(plan.disease.relative_susceptibility[band]), unit="")]
+    contacts = plan.contacts
+    if contacts.matrices is None and contacts.mean_daily is not None:
+        out.append(Suspect(name="band_contacts.mean_daily", suffix=suffix,
+                           value=float(contacts.mean_daily[band]), unit="per day"))
     return out
 
 
@@ -200,6 +236,10 @@ def run_error(
     ranged = draw is not None
     sc = scalar_offset(model.layout.bands)
     population = float(pc[sc + S_TOTAL_POP])
+    if check == "too_fast" and not (
+        max(report[REPORT_RATE], report[REPORT_STAGES], report[REPORT_EXTRA]) > MAX_RATE_PER_DAY
+    ):
+        check = "not_finite"  # the day failed because its numbers did, not for its speed
     fastest = f"at most {number(MAX_RATE_PER_DAY)} per day"
     tail = ""
     if check == "too_fast":
@@ -227,14 +267,24 @@ def run_error(
             expected = f"at most {number(MAX_RATE_PER_DAY * population)} per day"
         else:
             suspects = _spread_suspects(plan, inputs, ranged)
-            cause = (
-                f"a susceptible resident would be infected at a rate of {number(rate)} per "
-                "day (the force of infection)"
-            )
+            growth = float(pc[sc + S_GROWTH_BOUND])
+            pace = "force of infection"
+            if growth > MAX_RATE_PER_DAY:
+                pace = "growth of infections"
+                cause = (
+                    f"infections could grow at a rate of up to {number(growth)} per day "
+                    f"(tenfold every {number(math.log(10.0) / growth * 86_400.0)} seconds)"
+                )
+            else:
+                band = _most_exposed(plan, model, pc)
+                cause = (
+                    f"a susceptible resident of band {plan.bands[band].label} would be infected "
+                    f"at a rate of {number(rate)} per day (the force of infection)"
+                )
+                suspects += _band_suspects(plan, band)
             expected = (
-                "values that together keep the force of infection "
-                f"{fastest} (a shorter latent or infectious period, or a lower "
-                "transmissibility)"
+                f"values that together keep the {pace} {fastest} (a shorter latent or "
+                "infectious period, or a lower transmissibility)"
             )
             tail = _r0_note(model, pc, inputs)
         problems = [_problem(plan, s, expected, draw) for s in suspects]
@@ -277,3 +327,48 @@ def _r0_note(model: CompiledModel, pc: NDArray[np.float64], inputs: ResolvedInpu
     except (ValueError, np.linalg.LinAlgError):  # pragma: no cover - only a note
         return ""
     return f" (together they mean each case infects about {number(r0)} others, R0)"
+
+
+def draw_error(
+    model: CompiledModel,
+    plan: Plan,
+    part: DrawValues,
+    pcs: NDArray[np.float64],
+    reports: NDArray[np.float64],
+    row: int,
+    *,
+    first: int,
+    what: str,
+) -> ModelError:
+    """The error naming a failed draw and its inputs.
+
+    Parameters
+    ----------
+    model : CompiledModel
+        Compiled central run of the variant.
+    plan : Plan
+        The plan.
+    part : prepkit.model.ensemble.DrawValues
+        The block of draws that holds the failed one.
+    pcs : ndarray, shape (block draws, parameters)
+        Their parameter vectors.
+    reports : ndarray, shape (block draws, REPORT_SIZE)
+        Their checks.
+    row : int
+        Row of the failed draw in the block.
+    first : int
+        Index of the block's first draw in the ensemble.
+    what : str
+        What a draw is called.
+
+    Returns
+    -------
+    ModelError
+        Names the draw (counted from 1 in the message) and its inputs.
+    """
+    draw = first + row
+    inputs = replace(model.inputs, **part.overrides(row))
+    return run_error(
+        plan, model, reports[row], what=f"{model.description}, {what} {draw + 1}",
+        pc=pcs[row], inputs=inputs, draw=draw,
+    )

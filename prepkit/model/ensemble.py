@@ -59,8 +59,8 @@ from scipy.special import gammainc
 from prepkit.errors import ModelError
 from prepkit.metrics import working_age_weights
 from prepkit.model.compile import DEFAULT_SUBSTEPS, MAX_STEP_RATE, CompiledModel
-from prepkit.model.diagnose import run_error
-from prepkit.model.health import failed_rows, most_substeps
+from prepkit.model.diagnose import draw_error
+from prepkit.model.health import failed_rows, growth_bound, most_substeps
 from prepkit.model.kernels import REPORT_SIZE, run_draws
 from prepkit.model.layout import (
     IT_CEILING,
@@ -79,6 +79,8 @@ from prepkit.model.layout import (
     P_WAIT_RATE,
     P_WARD_RATE,
     S_BETA,
+    S_GROWTH_BOUND,
+    S_GROWTH_STEP,
     S_INFECTIOUS_RATE,
     S_LATENT_RATE,
     S_RHO,
@@ -87,6 +89,7 @@ from prepkit.model.layout import (
     scalar_offset,
 )
 from prepkit.model.natural_history import share_before_isolation
+from prepkit.model.transmissibility import NOBODY_INFECTS, transmission_is_finite
 from prepkit.plan import SETTINGS, Plan
 
 ENSEMBLE_MIN_SUBSTEPS = 1
@@ -98,13 +101,22 @@ give about 2e-7). Pass ``min_substeps=None`` to use the engine's rule instead (t
 draw equals :func:`prepkit.engine.run_scenario` with the same overrides)."""
 
 ENSEMBLE_MAX_STEP_RATE = 1.0
-"""Largest (rate x step) in the ensemble, for every per-capita outflow rate met (the step rule
-of :func:`prepkit.model.kernels.advance_day`); faster days get more steps. 1 is the largest
-value for which an RK4 step keeps every compartment of a linear flow non-negative (see
-:mod:`prepkit.model.health`); classical RK4 would stay stable up to 2.785 on the negative
-real axis (Hairer, Norsett & Wanner 1993, Solving Ordinary Differential Equations I,
-sec. IV.2, from memory), but with negative compartments on the way. The engine's own limit
-is :data:`prepkit.model.compile.MAX_STEP_RATE`."""
+"""Largest (rate x step) in the ensemble for the stage rates and the growth bound (the step
+rule of :func:`prepkit.model.kernels.advance_day`); faster days get more steps. 1 is the
+largest value for which an RK4 step keeps every compartment of a linear flow non-negative
+(see :mod:`prepkit.model.health`); classical RK4 would stay stable up to 2.785 on the
+negative real axis (Hairer, Norsett & Wanner 1993, Solving Ordinary Differential Equations
+I, sec. IV.2, from memory), but with negative compartments on the way. The engine's own
+limit is :data:`prepkit.model.compile.MAX_STEP_RATE`."""
+
+ENSEMBLE_MAX_FORCE_STEP = 0.5
+"""Largest (rate x step) in the ensemble for the dynamics of infection: what susceptibles lose
+per capita (force of infection, importations, dosing) and the growth bound. Tighter than for
+the stages, whose errors only shift fast transits a little: these feed every later
+compartment. The hypothesis search (tests/test_model_search.py) met a draw (growth rate 2 a
+day, 60-day periods, 100 million initial infections) whose peak ICU census was 5.4e-3 off
+the reference with them at 1 per step and 5.4e-4 at 0.5. On the sample plans the force stays
+below 0.2 a day and the growth bound below 0.3, so 1 step a day still serves."""
 
 DEFAULT_BLOCKS = 8
 """Draws are run in this many blocks, so that progress can be reported between them."""
@@ -351,9 +363,10 @@ def calibrate_beta(
     edges = np.linspace(0, n_rows, count + 1).astype(int)
     parts = [slice(a, b) for a, b in zip(edges[:-1], edges[1:], strict=True)]
     unit = np.concatenate(in_threads(spectral_radius, parts)) if parts else np.empty(0)
-    if np.any(unit <= 0.0):
-        raise ModelError("nobody can infect anybody: contacts or infectiousness are all zero")
-    beta = (target if kind == "r0" else np.ones_like(target)) / unit
+    with np.errstate(divide="ignore", over="ignore"):
+        beta = (target if kind == "r0" else np.ones_like(target)) / unit
+    if np.any(unit <= 0.0) or not np.all(transmission_is_finite(beta, pc, layout)):
+        raise ModelError(NOBODY_INFECTS)
     return np.asarray(beta, dtype=np.float64)
 
 
@@ -428,6 +441,14 @@ def build_parameters(
     pcs[:, sc + S_INFECTIOUS_RATE] = layout.infectious_stages / infectious_days
     pcs[:, sc + S_VE_INFECTION] = ve_inf
     pcs[:, sc + S_BETA] = beta
+    pcs[:, sc + S_GROWTH_BOUND] = growth_bound(
+        model.inputs.transmissibility_measure, values.transmissibility_value,
+        latent=(pcs[:, sc + S_LATENT_RATE], layout.latent_stages),
+        infectious=(pcs[:, sc + S_INFECTIOUS_RATE], layout.infectious_stages),
+        waiting=(float(np.max(model.pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb])),
+                 layout.wait_stages),
+        amplitude=plan.disease.seasonal_amplitude,
+    )
 
     itabs = np.repeat(model.itab[None, :, :], n, axis=0)
     wait_days = np.asarray(plan.severity.onset_to_admission_days, dtype=np.float64)
@@ -460,30 +481,32 @@ def build_parameters(
                 1.0 - theta_wait[None, :]
             )
 
-    floor, _ = step_rule(min_substeps)
+    floor, _, _ = step_rule(min_substeps)
     return pcs, itabs, np.full(n, floor, dtype=np.int64)
 
 
-def step_rule(min_substeps: int | None) -> tuple[int, float]:
-    """Fewest RK4 steps a day and largest (rate x step) of the ensemble.
+def step_rule(min_substeps: int | None) -> tuple[int, float, float]:
+    """Fewest RK4 steps a day and the largest (rate x step) values of the ensemble.
 
     Parameters
     ----------
     min_substeps : int or None
-        Fewest steps a day with :data:`ENSEMBLE_MAX_STEP_RATE`; None for the
-        engine's :data:`~prepkit.model.compile.DEFAULT_SUBSTEPS` and
-        :data:`~prepkit.model.compile.MAX_STEP_RATE`.
+        Fewest steps a day with :data:`ENSEMBLE_MAX_STEP_RATE` and
+        :data:`ENSEMBLE_MAX_FORCE_STEP`; None for the engine's
+        :data:`~prepkit.model.compile.DEFAULT_SUBSTEPS` and
+        :data:`~prepkit.model.compile.MAX_STEP_RATE` for every rate.
 
     Returns
     -------
-    tuple of int and float
-        Fewest steps, largest (rate x step).
+    tuple of int, float and float
+        Fewest steps, largest (rate x step) for stage and growth rates and
+        for the losses of susceptibles.
     """
     if min_substeps is None:
-        return DEFAULT_SUBSTEPS, MAX_STEP_RATE
+        return DEFAULT_SUBSTEPS, MAX_STEP_RATE, MAX_STEP_RATE
     if int(min_substeps) < 1:
         raise ModelError("substeps must be at least 1")
-    return int(min_substeps), ENSEMBLE_MAX_STEP_RATE
+    return int(min_substeps), ENSEMBLE_MAX_STEP_RATE, ENSEMBLE_MAX_FORCE_STEP
 
 
 def shares_before_isolation(
@@ -629,8 +652,9 @@ def simulate_draws(
     peak_days = np.zeros((n, len(PEAK_NAMES)), dtype=np.int64)
     substeps = np.zeros(n, dtype=np.int64)
     reports = np.zeros((n, REPORT_SIZE))
-    floor, limit = step_rule(min_substeps)
-    most = most_substeps(floor, limit)
+    floor, limit, force_limit = step_rule(min_substeps)
+    growth_limit = float(model.pc[scalar_offset(model.layout.bands) + S_GROWTH_STEP])
+    most = most_substeps(floor, min(limit, force_limit, growth_limit))
     employed = employed_weights(plan)
     use_all_cores()
     edges = np.linspace(0, n, max(1, min(int(blocks), max(n, 1))) + 1).astype(int)
@@ -651,6 +675,7 @@ def simulate_draws(
             days,
             floors,
             limit,
+            force_limit,
             most,
             employed,
             series[:, start:stop, :],
@@ -673,53 +698,6 @@ def simulate_draws(
         peak_days=peak_days,
         beta=betas,
         substeps=substeps,
-    )
-
-
-def draw_error(
-    model: CompiledModel,
-    plan: Plan,
-    part: DrawValues,
-    pcs: NDArray[np.float64],
-    reports: NDArray[np.float64],
-    row: int,
-    *,
-    first: int,
-    what: str,
-) -> ModelError:
-    """The error naming a failed draw and its inputs.
-
-    Parameters
-    ----------
-    model : CompiledModel
-        Compiled central run of the variant.
-    plan : Plan
-        The plan.
-    part : DrawValues
-        The block of draws that holds the failed one.
-    pcs : ndarray, shape (block draws, parameters)
-        Their parameter vectors.
-    reports : ndarray, shape (block draws, REPORT_SIZE)
-        Their checks.
-    row : int
-        Row of the failed draw in the block.
-    first : int
-        Index of the block's first draw in the ensemble.
-    what : str
-        What a draw is called.
-
-    Returns
-    -------
-    ModelError
-        Names the draw (counted from 1 in the message) and its inputs.
-    """
-    from dataclasses import replace
-
-    draw = first + row
-    inputs = replace(model.inputs, **part.overrides(row))
-    return run_error(
-        plan, model, reports[row], what=f"{model.description}, {what} {draw + 1}",
-        pc=pcs[row], inputs=inputs, draw=draw,
     )
 
 

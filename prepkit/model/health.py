@@ -12,7 +12,8 @@ report of checks made at every day boundary:
 * people (deaths included) within ``DRIFT_TOLERANCE`` (relative) of their
   number at day 0: the model has no births and no migration, and RK4 keeps
   any linear invariant of a linear flow exactly, so only rounding is left;
-* no day needing more than ``MAX_RATE_PER_DAY / limit`` steps.
+* no day needing more than ``MAX_RATE_PER_DAY / limit`` steps (the smaller
+  limit of the step rule).
 
 A run or a draw that fails any of them stops with a
 :class:`~prepkit.errors.ModelError` (see :mod:`prepkit.model.diagnose`); its
@@ -56,6 +57,134 @@ memory), so only rounding and the change of the force of infection within a step
 left; measured below 1e-12 on the same search."""
 
 
+def _residence(rate: NDArray[np.float64], stages: int, x: NDArray[np.float64]
+               ) -> NDArray[np.float64]:
+    """Time in an Erlang chain discounted by ``exp(-x t)`` [days]."""
+    out = np.zeros(np.broadcast(rate, x).shape)
+    term = 1.0 / (rate + x)
+    ratio = rate / (rate + x)
+    for _ in range(stages):
+        out = out + term
+        term = term * ratio
+    return out
+
+
+def growth_bound(
+    measure: str,
+    value: NDArray[np.float64] | float,
+    latent: tuple[NDArray[np.float64] | float, int],
+    infectious: tuple[NDArray[np.float64] | float, int],
+    waiting: tuple[float, int],
+    amplitude: float,
+) -> NDArray[np.float64]:
+    """Largest growth rate infections can reach at any time of a run [1/day].
+
+    The growth rate ``r`` solves ``rho(K(r)) = 1`` (Euler-Lotka), where ``K(r)``
+    is the next-generation matrix with every residence time discounted by
+    ``exp(-r t)``: ``K(r)_ij = K(0)_ij L(r) c_j(r)`` with ``L(r) = (lat / (lat
+    + r))^m`` the latent chain and ``c_j(r)`` a mix of the infectious (A, Y) and
+    waiting (P) chains' discounted times, so ``c_j(x) / c_j(y)`` is at most the
+    largest ratio ``D(x) / D(y)`` of one chain, which is that of the fastest
+    chain (the ratio grows with the stage rate). Hence ``rho(K(x)) <= rho(K(y))
+    L(x) / L(y) max_chain D(x) / D(y)`` for ``x >= y``, and the growth rate is at
+    most the ``x`` where ``(1 + a) rho(K(y))`` times that ratio falls to 1:
+    from ``y = 0`` with ``rho = R0``, or from the given growth rate ``y`` with
+    ``rho = 1``. ``1 + a`` is the seasonal peak; measures, immunity and
+    depletion only lower ``K``. Found by bisection between ``y`` and the
+    bound from the latent chain alone.
+
+    Parameters
+    ----------
+    measure : {"r0", "doubling_time", "growth_rate"}
+        What ``value`` is.
+    value : float or ndarray
+        R0 [dimensionless], doubling time [days] or growth rate [1/day].
+    latent, infectious : tuple
+        Stage rate [1/day] (float or one per draw) and stage count of the
+        latent and infectious chains.
+    waiting : tuple
+        Fastest onset-to-admission stage rate of any band [1/day] and the
+        stage count.
+    amplitude : float
+        Seasonal amplitude [fraction].
+
+    Returns
+    -------
+    ndarray
+        The bound, at least 0 [1/day].
+
+    References
+    ----------
+    Wallinga J., Lipsitch M. (2007). How generation intervals shape the
+    relationship between growth rates and reproductive numbers. Proc. R.
+    Soc. B 274:599-604. doi:10.1098/rspb.2006.3754
+    """
+    lat = np.asarray(latent[0], dtype=np.float64)
+    m = latent[1]
+    given = np.asarray(value, dtype=np.float64)
+    lat, given = np.broadcast_arrays(lat, given)
+    if measure == "r0":
+        start = np.zeros(given.shape)
+        scale = (1.0 + amplitude) * np.maximum(given, 0.0)
+    else:
+        start = math.log(2.0) / given if measure == "doubling_time" else given.copy()
+        scale = np.full(given.shape, 1.0 + amplitude)
+    chains = [
+        (np.asarray(infectious[0], dtype=np.float64), infectious[1]),
+        (np.asarray(waiting[0], dtype=np.float64), waiting[1]),
+    ]
+
+    def excess(x: NDArray[np.float64]) -> NDArray[np.float64]:
+        """``(1 + a) rho(K(y))`` times the ratio at ``x``, minus 1."""
+        ratio = np.zeros(x.shape)
+        for rate, stages in chains:
+            ratio = np.maximum(ratio, _residence(rate, stages, x)
+                               / _residence(rate, stages, start))
+        return np.asarray(scale * ((lat + start) / (lat + x)) ** m * ratio - 1.0)
+
+    high = (lat + start) * scale ** (1.0 / m) - lat  # the latent chain alone
+    low = start.copy()
+    growing = high > low
+    high = np.where(growing, high, low)
+    for _ in range(60):
+        mid = 0.5 * (low + high)
+        above = excess(mid) > 0.0
+        low = np.where(above, mid, low)
+        high = np.where(above, high, mid)
+    return np.asarray(np.maximum(high, 0.0), dtype=np.float64)
+
+
+ACCURACY_TARGET = 1e-3
+"""Largest relative error of peak census against the reference the step rule aims at
+[fraction] (common practice, no source)."""
+
+
+def growth_step(population: float, seeds: float) -> float:
+    """Largest (growth rate x step) that keeps an exponential rise within half the target.
+
+    One RK4 step multiplies a mode growing at ``r`` by ``R(z) = e^z - z^5 / 120 + ...``
+    with ``z = r h``, a relative shortfall of ``z^5 / 120``; over a rise by ``e^G`` that
+    takes ``G / z`` steps, ``G z^4 / 120``. Infections rise at most from the day-0 and
+    first day's imported infections to the population: ``G = ln(population / seeds)``.
+    Where the run ends during the rise, its peak census carries that error, so ``z`` is
+    chosen to keep it at ``ACCURACY_TARGET / 2``.
+
+    Parameters
+    ----------
+    population : float
+        Residents [persons].
+    seeds : float
+        Initial infections plus one day of importations [persons].
+
+    Returns
+    -------
+    float
+        ``(60 ACCURACY_TARGET / G)^(1/4)`` with ``G`` at least 1 [dimensionless].
+    """
+    rise = math.log(population) - math.log(seeds) if seeds > 0.0 else 1.0
+    return float((60.0 * ACCURACY_TARGET / max(rise, 1.0)) ** 0.25)
+
+
 def most_substeps(floor: int, limit: float) -> int:
     """Most RK4 steps a day that the step rule may take.
 
@@ -64,7 +193,8 @@ def most_substeps(floor: int, limit: float) -> int:
     floor : int
         Fewest steps a day.
     limit : float
-        Largest (rate x step) [dimensionless]; inf takes ``floor`` steps.
+        The smaller largest (rate x step) of the rule [dimensionless]; inf
+        takes ``floor`` steps.
 
     Returns
     -------

@@ -38,15 +38,27 @@ Step rule
 Each day is integrated with ``n`` equal classical RK4 steps, ``n`` chosen
 afresh every day by :func:`advance_day` (the one rule of single runs and of
 every ensemble draw): at least the run's fewest steps, and enough that
-``h * q <= limit`` (``h = 1 / n`` days) for every per-capita outflow rate
-``q`` met during the day. These are the Erlang stage rates, and for
-susceptible and dosed people the force of infection plus importations per
-resident and the dosing (or dose-to-protection) rate. The force of
-infection is taken from every RK4 evaluation of the day; a day that met a
-larger one than its steps allow is taken again from its start with more
-steps, up to the most allowed (:data:`prepkit.model.health.MAX_RATE_PER_DAY`
-over ``limit``; a day that needs more fails with a message naming the
-inputs). With ``limit <= 1`` each step of a linear flow keeps every
+``h * q`` (``h = 1 / n`` days) stays within a limit for every rate ``q``
+met during the day: the Erlang stage rates within ``limit``; the dynamics
+of infection within ``force_limit``: what susceptible and dosed people lose
+per capita (the force of infection plus importations per resident and the
+dosing or dose-to-protection rate) and the largest growth rate infections
+can reach in the run (the positive eigenvalue of the infected subsystem,
+bounded by :func:`prepkit.model.health.growth_bound`; for it also within
+the run's growth step, :func:`prepkit.model.health.growth_step`, which
+keeps an exponential rise within the accuracy target). On day 0 the
+stage rates are held to half the smaller limit and at least
+:data:`DAY0_FEWEST_STEPS` steps are taken: the day-0 infections enter the
+first latent stage as a pulse, the one sharp transient of a run, and what
+reaches a compartment several stages on starts as a high power of time,
+which few steps follow poorly (a search over the documented ranges met
+1-day runs whose ICU census, a few patients three stages from the pulse,
+was 2e-3 off the reference with 1 or 2 steps and 1e-4 with 4). The force of infection is
+taken from every RK4 evaluation of the day; a day that met a larger one
+than its steps allow is taken again from its start with more steps, up to
+the most allowed (:data:`prepkit.model.health.MAX_RATE_PER_DAY` over the
+smaller limit; a day that needs more fails with a message naming the
+inputs). With both limits at most 1 each step of a linear flow keeps every
 compartment non-negative (the RK4 polynomial is absolutely monotonic on
 [-1, 0], see :mod:`prepkit.model.health`) and RK4 keeps the number of
 people exactly, up to rounding; every day boundary is checked for both.
@@ -144,6 +156,8 @@ from prepkit.model.layout import (
     P_WARD_RATE,
     S_BETA,
     S_DOSE_TO_WAITING,
+    S_GROWTH_BOUND,
+    S_GROWTH_STEP,
     S_IMPORTS,
     S_INFECTIOUS_RATE,
     S_LATENT_RATE,
@@ -173,6 +187,10 @@ _U = np.uint64
 FORCE_GROWTH_MAX = 8.0
 """Largest day-on-day growth of the force of infection assumed when a day's steps are first
 chosen (a doubling time of a third of a day); a faster rise only costs a second attempt."""
+
+DAY0_FEWEST_STEPS = 8
+"""Fewest RK4 steps on day 0 (see the module's step rule): twice the engine's fewest a day, on
+one day of the run."""
 
 # what run_days and run_draws report of each run (report arrays, float64)
 REPORT_DRIFT = 0  # largest |people - people at day 0| / people at day 0 [fraction]
@@ -447,6 +465,12 @@ def rhs(
 
 
 @njit(cache=True)
+def _larger(top: float, value: float) -> float:
+    """``max(top, value)`` that leaves out nan."""
+    return value if value > top else top
+
+
+@njit(cache=True)
 def rk4_day(
     y: NDArray[np.float64],
     t0: float,
@@ -480,7 +504,7 @@ def rk4_day(
     -------
     float
         Largest per-capita force of infection over every evaluation of the
-        day [1/day] (inf or nan when the state stopped being finite).
+        day [1/day]; evaluations that were not finite are left out.
 
     References
     ----------
@@ -503,19 +527,19 @@ def rk4_day(
         t = t0 + step * h
         if step > 0 or not k1_ready:
             rhs(t, y, pc, pd, lay, k1, scratch)
-        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
+        top = _larger(top, scratch[force_at])
         for q in range(size):
             tmp[q] = y[q] + half * k1[q]
         rhs(t + half, tmp, pc, pd, lay, k2, scratch)
-        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
+        top = _larger(top, scratch[force_at])
         for q in range(size):
             tmp[q] = y[q] + half * k2[q]
         rhs(t + half, tmp, pc, pd, lay, k3, scratch)
-        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
+        top = _larger(top, scratch[force_at])
         for q in range(size):
             tmp[q] = y[q] + h * k3[q]
         rhs(t + h, tmp, pc, pd, lay, k4, scratch)
-        top = max(top, scratch[force_at]) + 0.0 * scratch[force_at]
+        top = _larger(top, scratch[force_at])
         for q in range(size):
             y[q] += sixth * (k1[q] + 2.0 * k2[q] + 2.0 * k3[q] + k4[q])
     return top
@@ -565,6 +589,7 @@ def advance_day(
     lay: NDArray[np.int64],
     floor: int,
     limit: float,
+    force_limit: float,
     most: int,
     previous_force: float,
     work: NDArray[np.float64],
@@ -572,17 +597,23 @@ def advance_day(
     """Advance ``y`` by one day with as many RK4 steps as the step rule asks.
 
     The step rule (the same for single runs and every ensemble draw): take
-    ``n`` equal steps, at least ``floor``, such that ``h * q <= limit``
-    with ``h = 1 / n`` for every per-capita outflow rate ``q`` met during
-    the day: the Erlang stage rates, and for susceptible and dosed people
-    the force of infection plus importations per resident and dosing (or
-    dose-to-protection). The force of infection is read from every RK4
-    evaluation of the day, so the rule holds for the rates actually met,
-    not an estimate: ``n`` is first chosen from the force at the start of
-    the day times its growth since the start of the previous day (between
-    1 and :data:`FORCE_GROWTH_MAX`), and the day is taken again from its
-    start, with more steps, when a larger force was met or the state
-    stopped being finite.
+    ``n`` equal steps (``h = 1 / n``), at least ``floor``, such that during
+    the day ``h * q <= limit`` for the Erlang stage rates,
+    ``h * q <= force_limit`` for what susceptible and dosed people lose per
+    capita (the force of infection plus importations per resident and
+    dosing or dose-to-protection), and for the largest growth rate of
+    infections of the run the smaller of ``force_limit`` and the run's
+    growth step (:func:`prepkit.model.health.growth_step`, which keeps an
+    exponential rise accurate). On day 0, whose seeding sends a pulse
+    through the stages, the stage rates are held to half the smaller limit
+    and at least :data:`DAY0_FEWEST_STEPS` steps are taken.
+    The force of infection is read from every RK4 evaluation of the day,
+    so the rule holds for the rates actually met, not an estimate: ``n`` is
+    first chosen from the force at the start of the day times its growth
+    since the start of the previous day (between 1 and
+    :data:`FORCE_GROWTH_MAX`), and the day is taken again from its start,
+    with more steps, when a larger force was met or the state stopped being
+    finite.
 
     Parameters
     ----------
@@ -595,9 +626,10 @@ def advance_day(
         Parameter, daily and layout arrays.
     floor : int
         Fewest RK4 steps a day.
-    limit : float
-        Largest (rate x step) allowed [dimensionless]; inf takes exactly
-        ``floor`` steps.
+    limit, force_limit : float
+        Largest (rate x step) allowed for the stage rates, and for the
+        growth of infections and the losses of susceptible and dosed people
+        [dimensionless]; inf (both) takes exactly ``floor`` steps.
     most : int
         Most RK4 steps a day; a day that needs more fails.
     previous_force : float
@@ -614,20 +646,28 @@ def advance_day(
     start_force : float
         Largest per-capita force of infection at ``t0`` [1/day].
     rate : float
-        Largest per-capita outflow rate met during the last attempt
-        [1/day].
+        Largest rate met during the last attempt [1/day].
     """
     size = y.size
     force_at = 5 * lay[LAY_BANDS]
     rhs(t0, y, pc, pd, lay, work[0], work[5])
     start_force = work[5, force_at]
     stages, extra = day_rates(pc, pd, lay)
+    spread = pc[N_BAND_FIELDS * lay[LAY_BANDS] + S_GROWTH_BOUND]
+    spread_limit = min(force_limit, pc[N_BAND_FIELDS * lay[LAY_BANDS] + S_GROWTH_STEP])
+    fixed = limit == np.inf and force_limit == np.inf
+    stage_limit = limit
+    if t0 == 0.0 and not fixed:  # day 0 carries the transient of the seeding
+        stage_limit = 0.5 * min(limit, force_limit)
+        floor = max(floor, DAY0_FEWEST_STEPS)
     growth = 1.0
     if previous_force > 0.0 and start_force > previous_force:
         growth = min(start_force / previous_force, FORCE_GROWTH_MAX)
     steps = floor
-    if limit < np.inf:
-        need = max(stages, start_force * growth + extra) / limit
+    if not fixed:
+        # the day-0 stage limit chooses the first attempt only, so it never fails a day
+        need = max(stages / stage_limit, spread / spread_limit,
+                   (start_force * growth + extra) / force_limit)
         if not need <= most:
             steps = max(floor, most)
         elif need > steps:
@@ -637,14 +677,15 @@ def advance_day(
     rate = 0.0
     while True:
         top = rk4_day(y, t0, pc, pd, lay, steps, work, True)
-        rate = max(stages, top + extra)
+        rate = max(stages, spread, top + extra)
+        need = max(stages / limit, spread / spread_limit, (top + extra) / force_limit)
         finite = True
         total = 0.0
         for q in range(size):
             total += y[q]
         if not abs(total) < np.inf:
             finite = False
-        if limit == np.inf or (finite and rate <= limit * steps * (1.0 + 1e-12)):
+        if fixed or (finite and need <= steps * (1.0 + 1e-12)):
             return steps, start_force, rate
         y[:] = work[7]
         work[0, :] = work[6]
@@ -652,8 +693,8 @@ def advance_day(
         if steps >= most:
             return -1, start_force, rate
         wanted = 2 * steps
-        if rate < np.inf and rate / limit > wanted:
-            wanted = int(math.ceil(1.25 * rate / limit)) if rate / limit < most else most
+        if need < np.inf and need > wanted:
+            wanted = int(math.ceil(1.25 * need)) if need < most else most
         steps = min(most, wanted)
 
 
@@ -935,6 +976,7 @@ def run_days(
     horizon: int,
     floor: int,
     limit: float,
+    force_limit: float,
     most: int,
 ) -> tuple[NDArray[np.float64], NDArray[np.int8], NDArray[np.int64], NDArray[np.float64]]:
     """Simulate ``horizon`` days: decide at each boundary, then step the day.
@@ -947,9 +989,10 @@ def run_days(
         Parameter, layout, intervention, priority and capacity arrays.
     horizon : int
         Number of days [days].
-    floor, limit, most : int, float, int
-        Fewest RK4 steps a day, largest (rate x step) and most steps a day
-        (the step rule of :func:`advance_day`).
+    floor, limit, force_limit, most : int, float, float, int
+        Fewest RK4 steps a day, largest (rate x step) for stage rates and
+        for the dynamics of infection, and most steps a day (the step rule
+        of :func:`advance_day`).
 
     Returns
     -------
@@ -991,7 +1034,7 @@ def run_days(
                 active[day, r] = 1
         y_prev[:] = y
         taken, force, rate = advance_day(
-            y, float(day), pc, pd, lay, floor, limit, most, force, work
+            y, float(day), pc, pd, lay, floor, limit, force_limit, most, force, work
         )
         report[REPORT_FORCE] = max(report[REPORT_FORCE], force)
         steps[day] = taken
@@ -1030,6 +1073,7 @@ def run_draws(
     horizon: int,
     floors: NDArray[np.int64],
     limit: float,
+    force_limit: float,
     most: int,
     employed: NDArray[np.float64],
     series: NDArray[np.float32] | NDArray[np.float64],
@@ -1063,9 +1107,9 @@ def run_draws(
         Number of days [days].
     floors : ndarray of int64, shape (draws,)
         Fewest RK4 steps a day of each draw.
-    limit, most : float, int
-        Largest (rate x step) and most steps a day (see
-        :func:`advance_day`).
+    limit, force_limit, most : float, float, int
+        Largest (rate x step) for stage rates and for the dynamics of
+        infection, and most steps a day (see :func:`advance_day`).
     employed : ndarray, shape (bands,)
         Employed workers per resident of each band [fraction].
     series : ndarray, shape (5, draws, horizon)
@@ -1143,7 +1187,8 @@ def run_draws(
                     closure = max(closure, itab[r, IT_SCHOOL_CLOSURE])
             y_prev[:] = y
             taken, force, rate = advance_day(
-                y, float(day), pc, pd, lay, floors[d], limit, most, force, work
+                y, float(day), pc, pd, lay, floors[d], limit, force_limit, most, force,
+                work,
             )
             report[REPORT_FORCE] = max(report[REPORT_FORCE], force)
             if taken < 0:

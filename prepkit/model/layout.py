@@ -139,8 +139,10 @@ N_BAND_FIELDS = 11
     S_IMPORTS,  # importations [persons/day]
     S_TOTAL_POP,  # [persons]
     S_BETA,  # transmission scale [1/contact]
-) = range(11)
-N_SCALARS = 11
+    S_GROWTH_BOUND,  # largest growth rate of infections possible in the run [1/day]
+    S_GROWTH_STEP,  # largest (growth rate x step) that keeps the rise accurate [dimensionless]
+) = range(13)
+N_SCALARS = 13
 
 N_SETTINGS = len(SETTINGS)
 SETTING_INDEX: dict[str, int] = {name: i for i, name in enumerate(SETTINGS)}

@@ -28,7 +28,7 @@ from prepkit.model.compile import CompiledModel
 from prepkit.model.diagnose import run_error
 from prepkit.model.health import failed_check, most_substeps
 from prepkit.model.kernels import REPORT_SIZE, decide_day, rhs, run_days
-from prepkit.model.layout import STATUS_ACTIVE, daily_size
+from prepkit.model.layout import S_GROWTH_STEP, STATUS_ACTIVE, daily_size, scalar_offset
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -61,6 +61,7 @@ def simulate(
     days: int | None = None,
     substeps: int | None = None,
     max_step_rate: float | None = None,
+    max_force_step: float | None = None,
 ) -> Trajectory:
     """Simulate a compiled model with the production RK4 integrator.
 
@@ -78,6 +79,9 @@ def simulate(
         Largest (rate x step) of the step rule; default the model's.
         ``numpy.inf`` takes exactly ``substeps`` steps every day (to study
         the integrator; the run may then fail its checks).
+    max_force_step : float, optional
+        Largest (rate x step) for what susceptibles lose per capita (force
+        of infection, importations, dosing); default ``max_step_rate``.
 
     Returns
     -------
@@ -94,8 +98,10 @@ def simulate(
     horizon = model.horizon_days if days is None else int(days)
     floor = model.substeps if substeps is None else int(substeps)
     limit = model.max_step_rate if max_step_rate is None else float(max_step_rate)
+    force_limit = limit if max_force_step is None else float(max_force_step)
     try:
-        most = most_substeps(floor, limit)
+        growth_limit = float(model.pc[scalar_offset(model.layout.bands) + S_GROWTH_STEP])
+        most = most_substeps(floor, min(limit, force_limit, growth_limit))
     except ValueError as exc:
         raise ModelError(str(exc)) from None
     states, active, steps, report = run_days(
@@ -108,6 +114,7 @@ def simulate(
         horizon,
         floor,
         limit,
+        force_limit,
         most,
     )
     if failed_check(report) is not None:
@@ -139,11 +146,13 @@ def simulate_reference(
     rtol : float
         Relative tolerance of DOP853.
     atol_per_person : float
-        Absolute tolerance as a share of the total population.
+        Absolute tolerance as a share of the smallest band's population (a
+        share of the total would let the compartments of a small band
+        drift freely).
     method : str
-        scipy's integrator: ``"DOP853"``, or ``"Radau"`` (implicit, for runs
-        whose fastest rates make an explicit method take millions of
-        steps).
+        scipy's integrator: ``"DOP853"``, or ``"LSODA"`` (switches to an
+        implicit method where the fastest rates would make an explicit one
+        take millions of steps).
 
     Returns
     -------
@@ -155,8 +164,9 @@ def simulate_reference(
     Hairer E., Norsett S.P., Wanner G. (1993). Solving Ordinary Differential
     Equations I, 2nd ed., Springer (DOP853).
 
-    Hairer E., Wanner G. (1996). Solving Ordinary Differential Equations II,
-    2nd ed., Springer (Radau IIA of order 5).
+    Petzold L. (1983). Automatic selection of methods for solving stiff and
+    nonstiff systems of ordinary differential equations. SIAM J. Sci. Stat.
+    Comput. 4:136-148 (LSODA).
     """
     y = np.array(model.y0 if y0 is None else y0, dtype=np.float64)
     horizon = model.horizon_days if days is None else int(days)
@@ -169,7 +179,7 @@ def simulate_reference(
     active = np.zeros((horizon, n_int), dtype=bool)
     states[0] = y
     y_prev = y.copy()
-    atol = atol_per_person * float(model.population.sum())
+    atol = atol_per_person * float(model.population.min())
 
     def fun(t: float, x: NDArray[np.float64]) -> NDArray[np.float64]:
         out = np.empty_like(x)

@@ -31,6 +31,7 @@ belong to the model that is simulated.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -61,6 +62,45 @@ from prepkit.model.layout import (
     matrix_offset,
     scalar_offset,
 )
+
+NOBODY_INFECTS = (
+    "nobody can infect anybody: contacts, susceptibility or infectiousness are all zero, or "
+    "too small for any transmission per contact to give the transmissibility asked for"
+)
+"""Message of a plan whose transmission scale would be zero or infinite."""
+
+
+def transmission_is_finite(
+    beta: NDArray[np.float64] | float, pc: NDArray[np.float64], layout: StateLayout
+) -> NDArray[np.bool_]:
+    """True where the daily transmission matrix of a transmission scale stays finite.
+
+    The kernels form ``(beta sigma_i) (sum_s mult_s M^s_ij) / N_j`` in that order
+    (:func:`prepkit.model.kernels.contact_matrix`) with every multiplier at most 1, so
+    the products ``beta sigma_i`` and ``beta sigma_i max_j sum_s M^s_ij`` decide.
+
+    Parameters
+    ----------
+    beta : float or ndarray
+        Transmission scale(s) [per contact].
+    pc : ndarray
+        Parameter vector (populations, susceptibility, contact matrices).
+    layout : StateLayout
+        State layout.
+
+    Returns
+    -------
+    ndarray of bool
+        One per ``beta``.
+    """
+    nb = layout.bands
+    mo = matrix_offset(nb)
+    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
+    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
+    scale = np.asarray(beta, dtype=np.float64)[..., None] * sigma
+    with np.errstate(over="ignore", invalid="ignore"):
+        top = scale * contacts.max(axis=1)
+    return np.asarray(np.isfinite(scale).all(axis=-1) & np.isfinite(top).all(axis=-1))
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -345,8 +385,8 @@ def beta_for_r0(target_r0: float, pc: NDArray[np.float64], layout: StateLayout) 
         beta [per contact].
     """
     unit = reproduction_number(pc, layout, beta=1.0)
-    if unit <= 0.0:
-        raise ModelError("nobody can infect anybody: contacts or infectiousness are all zero")
+    if not (unit > 0.0 and math.isfinite(float(target_r0) / unit)):
+        raise ModelError(NOBODY_INFECTS)
     return float(target_r0) / unit
 
 
@@ -387,8 +427,8 @@ def beta_for_growth_rate(target_r: float, pc: NDArray[np.float64], layout: State
         )
     shifted = v_mat + target_r * np.eye(v_mat.shape[0])
     unit = spectral_radius(next_generation_matrix(f_mat, shifted, entries))
-    if unit <= 0.0:
-        raise ModelError("nobody can infect anybody: contacts or infectiousness are all zero")
+    if not (unit > 0.0 and math.isfinite(1.0 / unit)):
+        raise ModelError(NOBODY_INFECTS)
     return 1.0 / unit
 
 
