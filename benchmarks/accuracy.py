@@ -22,8 +22,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 from factories import banded_plan, compiled, make_plan  # noqa: E402
 
-from prepkit.model.layout import BLK_C, BLK_W  # noqa: E402
-from prepkit.model.simulate import simulate, simulate_reference  # noqa: E402
+from prepkit.simulation.layout import BLK_C, BLK_W  # noqa: E402
+from prepkit.simulation.simulate import simulate, simulate_reference  # noqa: E402
 
 SUBSTEPS = (1, 2, 4, 8, 16)
 
@@ -66,7 +66,7 @@ def report(label: str, model: Any) -> None:
 
 
 def whole_plan() -> None:
-    from prepkit.engine import run_plan
+    from prepkit.scenarios.runs import run_plan
 
     plan = banded_plan(12, horizon=730)
     start = time.perf_counter()

@@ -13,13 +13,13 @@ interventions. In one run it measures:
     RK45 (rtol 1e-6, atol 1e-9 x population) on the model's own
     right-hand side, taking the same daily decisions; timed on a few draws
     and extrapolated to 1,000;
-(b) the production ensemble (:func:`prepkit.uncertainty.run_ensemble`:
+(b) the production ensemble (:func:`prepkit.uncertainty.run.run_ensemble`:
     sampling, per-draw parameters, the parallel compiled loop, bands,
     exceedance, peak dates, summary and tornado) for 1,000 and 10,000 draws
     after a warm-up, and the compiled loop alone;
 (c) accuracy: the largest relative error of the peak ward and ICU census of
     the production ensemble against the DOP853 reference
-    (:func:`prepkit.model.simulate.simulate_reference`, rtol 1e-10) on 24
+    (:func:`prepkit.simulation.simulate.simulate_reference`, rtol 1e-10) on 24
     draws;
 (d) peak resident memory of a child process that imports everything, warms
     up on 16 draws, then runs 10,000 draws (``VmHWM`` from /proc/self/status,
@@ -56,15 +56,15 @@ sys.path.insert(0, str(ROOT))
 
 from build_samples import vellmora_plan  # noqa: E402
 
-from prepkit.engine import compile_scenario, run_plan  # noqa: E402
 from prepkit.errors import ModelError  # noqa: E402
-from prepkit.model.compile import CompiledModel  # noqa: E402
-from prepkit.model.ensemble import simulate_draws, use_all_cores  # noqa: E402
-from prepkit.model.kernels import decide_day, rhs  # noqa: E402
-from prepkit.model.layout import BLK_C, BLK_W, daily_size  # noqa: E402
-from prepkit.model.simulate import simulate_reference  # noqa: E402
 from prepkit.plan import Plan, Range3  # noqa: E402
-from prepkit.uncertainty import (  # noqa: E402
+from prepkit.scenarios.runs import compile_scenario, run_plan  # noqa: E402
+from prepkit.simulation.compile import CompiledModel  # noqa: E402
+from prepkit.simulation.kernels import decide_day, rhs  # noqa: E402
+from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
+from prepkit.simulation.simulate import simulate_reference  # noqa: E402
+from prepkit.uncertainty.ensemble import simulate_draws, use_all_cores  # noqa: E402
+from prepkit.uncertainty.run import (  # noqa: E402
     draw_values,
     run_ensemble,
     run_uncertainty,
@@ -249,7 +249,7 @@ def main() -> None:
     # (e) workbook -> JSON summary, 1,000 draws, warm
     workbook = ROOT / "sample_workbooks" / "vellmora_city.xlsx"
     if workbook.exists():
-        from prepkit.summary import summary_dict
+        from prepkit.pipeline.summary import summary_dict
         from prepkit.workbook.reader import read_plan
 
         def whole() -> int:

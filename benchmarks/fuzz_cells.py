@@ -19,7 +19,7 @@ workbooks still read as plans and go on to the model:
   before day 0 to 30 days after the horizon [days];
 * the transmissibility measure is switched (R0, doubling time, growth rate).
 
-Every change is a ``Mutation(kind="set")`` of ``tests/test_workbook_fuzz.py``
+Every change is a ``Mutation(kind="set")`` of ``tests/workbook/test_workbook_fuzz.py``
 aimed at the cell's place in the base workbook, applied before any layout
 breaking mutation, so :func:`test_workbook_fuzz.mutated_file` applies both.
 """

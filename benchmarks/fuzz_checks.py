@@ -2,7 +2,7 @@
 
 The job is what ``prepkit check`` and ``prepkit run --summary-only`` do: read
 the workbook, describe the plan, run every scenario with and without its
-measures (:func:`prepkit.engine.run_plan`), build the JSON summary, and on a
+measures (:func:`prepkit.scenarios.runs.run_plan`), build the JSON summary, and on a
 share of the cases run a small uncertainty ensemble. The stage functions are
 looked up on their modules at call time, so a test can replace one.
 
@@ -41,8 +41,10 @@ import numpy as np
 import pandas as pd
 from test_workbook_fuzz import check_plan_invariants
 
-from prepkit import engine, summary, uncertainty
 from prepkit.errors import PrepkitError, WorkbookError
+from prepkit.pipeline import summary
+from prepkit.scenarios import runs as engine
+from prepkit.uncertainty import run as uncertainty
 from prepkit.workbook import describe, reader
 
 TOLERANCE_SHARE = 1e-6
@@ -173,7 +175,7 @@ def _digest(path: Path) -> str:
 
 
 def check_results(population: float, results: Any, into: JobResult) -> None:
-    """Finite, non-negative and conserved results of :func:`prepkit.engine.run_plan`.
+    """Finite, non-negative and conserved results of :func:`prepkit.scenarios.runs.run_plan`.
 
     Parameters
     ----------
@@ -209,7 +211,7 @@ def check_results(population: float, results: Any, into: JobResult) -> None:
 
 
 def check_ensemble(population: float, ensemble: Any, into: JobResult) -> None:
-    """Finite and non-negative tables of :func:`prepkit.uncertainty.run_uncertainty`."""
+    """Finite and non-negative tables of :func:`prepkit.uncertainty.run.run_uncertainty`."""
     tolerance = TOLERANCE_SHARE * population
     for item in ensemble.scenarios:
         for result in (item.with_interventions, item.without_interventions):
@@ -226,7 +228,7 @@ def _defined(daily: pd.DataFrame) -> pd.DataFrame:
     """The daily table less occupancy shares of a bed type with no beds available.
 
     Demand over zero available beds is an infinite occupancy share by definition
-    (prepkit.metrics.add_capacity_columns): the model's triggers read it that way, and
+    (prepkit.metrics.core.add_capacity_columns): the model's triggers read it that way, and
     it is not a numerical failure.
     """
     drop = [f"{kind}_occupancy_share" for kind in ("ward", "icu")

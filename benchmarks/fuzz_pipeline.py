@@ -6,8 +6,8 @@ the two fixture plans of the tests) and applies one to six range mutations
 extremes and Low/High columns included) and, in a share of the cases, one or
 two layout-breaking mutations of the reader fuzzer
 (``benchmarks/fuzz_workbooks.py``). Every workbook that reads goes through
-``prepkit check``'s description, :func:`prepkit.engine.run_plan` and
-:func:`prepkit.summary.summary_dict`, and a share of them through a small
+``prepkit check``'s description, :func:`prepkit.scenarios.runs.run_plan` and
+:func:`prepkit.pipeline.summary.summary_dict`, and a share of them through a small
 uncertainty ensemble (``benchmarks/fuzz_checks.py``). Each case runs in a
 worker process under a time limit; a case over it is a hang, its worker is
 killed and replaced.
@@ -46,7 +46,7 @@ from typing import Any
 
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
-for _folder in (HERE, ROOT / "tests"):
+for _folder in (HERE, ROOT / "tests", ROOT / "tests" / "workbook"):
     if str(_folder) not in sys.path:
         sys.path.insert(0, str(_folder))
 

@@ -3,7 +3,7 @@
 Each workbook is a valid filled workbook (simple contacts, contact matrices)
 or the blank template, changed by one to five random mutations (cell values
 of every kind, swapped cells, deleted or inserted rows and columns, deleted
-or renamed sheets; see ``tests/test_workbook_fuzz.py``). Every outcome must
+or renamed sheets; see ``tests/workbook/test_workbook_fuzz.py``). Every outcome must
 be a plan that meets the model's invariants or a WorkbookError whose problems
 each name a sheet; anything else is counted as unexpected and shown.
 
@@ -28,6 +28,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "tests"))
+sys.path.insert(0, str(ROOT / "tests" / "workbook"))
 
 from test_workbook_fuzz import (  # noqa: E402  (tests/ is put on the path just above)
     MUTATION_KINDS,

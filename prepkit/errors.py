@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from prepkit.plural import counted
+from prepkit.base.plural import counted
 
 
 class PrepkitError(Exception):

@@ -30,7 +30,6 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
-from prepkit.model.inputs import DOUBLING_TIME_LEVEL
 from prepkit.plan import (
     SETTINGS,
     AgeBand,
@@ -52,6 +51,7 @@ from prepkit.plan import (
     Vaccination,
     Workforce,
 )
+from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
 
 HERE = Path(__file__).resolve().parent
 VELLMORA_FILE = "vellmora_city.xlsx"

@@ -348,7 +348,7 @@ def banded_plan(bands: int = 10, *, horizon: int = 365, **changes: Any) -> Plan:
 def compiled(plan: Plan, scenario_name: str | None = None, with_interventions: bool = True,
              substeps: int | None = None) -> Any:
     """Compile a scenario of a plan (first scenario by default)."""
-    from prepkit.engine import compile_scenario
+    from prepkit.scenarios.runs import compile_scenario
 
     name = scenario_name or plan.scenarios[0].name
     return compile_scenario(plan, name, with_interventions, substeps=substeps)

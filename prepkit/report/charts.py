@@ -86,7 +86,7 @@ def uncertainty_chart_jobs(
         The plan.
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
         The ensemble; None or an empty one gives no jobs.
     focus : str
         Scenario of the sensitivity chart.
@@ -131,7 +131,7 @@ def draw_uncertainty_charts(
         The plan.
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
         The ensemble; None or an empty one gives no charts.
     focus : str
         Scenario of the sensitivity chart.
@@ -156,7 +156,7 @@ def chart_jobs(
     """The deterministic charts as jobs: each call draws one chart.
 
     Charts are independent of each other, so a caller may run the jobs in
-    parallel (:mod:`prepkit.pipeline` does, in forked worker processes);
+    parallel (:mod:`prepkit.pipeline.run` does, in forked worker processes);
     the bytes are the same either way.
 
     Parameters

@@ -74,7 +74,7 @@ WITHOUT_STYLE = series_style(1)
 
 #: Height of the text block of each paper [inches]: the page less the top and
 #: bottom margins of ``templates/pack.css`` (A4: 297 mm less 20 and 24 mm;
-#: Letter: 11 in less 0.75 and 0.95 in). tests/test_pack_layout.py keeps the
+#: Letter: 11 in less 0.75 and 0.95 in). tests/report/test_pack_layout.py keeps the
 #: two in step.
 TEXT_BLOCK_HEIGHTS_IN: dict[str, float] = {
     "A4": (297.0 - 20.0 - 24.0) / 25.4,

@@ -12,7 +12,7 @@ Two steps, kept apart so each can be tested alone:
   viewers) using only prepkit's own assets, through
   :class:`prepkit.report.safety.AssetFetcher`. Text is set in the DejaVu
   Sans files bundled with the templates. The PDF's dates come from
-  :func:`prepkit.outputs.source_date` and its file identifier from its own
+  :func:`prepkit.pipeline.outputs.source_date` and its file identifier from its own
   content, so the same HTML rendered twice under the same
   ``SOURCE_DATE_EPOCH`` gives the same bytes.
 """
@@ -31,7 +31,7 @@ from weasyprint import HTML
 from weasyprint.text.fonts import FontConfiguration
 
 from prepkit.errors import OutputError, PrepkitError
-from prepkit.outputs import source_date
+from prepkit.pipeline.outputs import source_date
 from prepkit.report.safety import AssetFetcher, package_assets_dir
 
 __all__ = [
@@ -177,7 +177,7 @@ def html_to_pdf(
         afterwards. Defaults to a new :class:`AssetFetcher`.
     created : datetime.datetime, optional
         Creation and modification date stored in the PDF. Defaults to
-        :func:`prepkit.outputs.source_date`.
+        :func:`prepkit.pipeline.outputs.source_date`.
 
     Returns
     -------

@@ -33,8 +33,7 @@ from urllib.request import url2pathname
 
 from weasyprint.urls import URLFetcher, URLFetcherResponse
 
-from prepkit.errors import PrepkitError
-from prepkit.sheet_text import (
+from prepkit.base.sheet_text import (
     FORMULA_TRIGGERS,
     looks_like_formula,
     safe_cell_text,
@@ -42,6 +41,7 @@ from prepkit.sheet_text import (
     write_text_cell,
     write_text_row,
 )
+from prepkit.errors import PrepkitError
 
 __all__ = [
     "ALLOWED_ASSET_SUFFIXES",

@@ -26,8 +26,8 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 
-from prepkit.engine import PlanResults
 from prepkit.report.safety import safe_csv_text
+from prepkit.scenarios.runs import PlanResults
 
 __all__ = [
     "DAILY_COLUMNS",
@@ -48,7 +48,7 @@ class Column:
     Parameters
     ----------
     name : str
-        Column name, as in :attr:`prepkit.engine.ScenarioRun.daily`.
+        Column name, as in :attr:`prepkit.scenarios.runs.ScenarioRun.daily`.
     unit : str
         Unit in words.
     meaning : str
@@ -216,7 +216,7 @@ def uncertainty_daily_csv(uncertainty: Any) -> bytes | None:
 
     Parameters
     ----------
-    uncertainty : prepkit.uncertainty.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
         The ensemble.
 
     Returns

@@ -7,9 +7,9 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from prepkit.base.plural import all_of, counted
 from prepkit.errors import Problem, WorkbookError
 from prepkit.plan import End, Intervention, Plan, Range3, Start
-from prepkit.plural import all_of, counted
 from prepkit.workbook.schema import FIELDS_BY_NAME, format_value
 
 __all__ = ["all_of", "counted", "describe_plan", "describe_problems"]

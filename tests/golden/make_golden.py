@@ -5,7 +5,7 @@ commit and in the issue note)::
 
     .venv/bin/python tests/golden/make_golden.py
 
-``tests/test_golden.py`` compares fresh runs with these files to 1e-12 relative.
+``tests/pipeline/test_golden.py`` compares fresh runs with these files to 1e-12 relative.
 """
 
 from __future__ import annotations
@@ -21,9 +21,9 @@ SAMPLES = ("vellmora_city", "tamsett_hollow")
 
 def outputs(name: str) -> tuple[dict[str, object], bytes]:
     """Summary dict and daily CSV bytes of one sample, without the ensemble."""
-    from prepkit.engine import run_plan
+    from prepkit.pipeline.summary import summary_dict
     from prepkit.report.tables import daily_csv
-    from prepkit.summary import summary_dict
+    from prepkit.scenarios.runs import run_plan
     from prepkit.workbook.reader import read_plan
 
     plan = read_plan(ROOT / "sample_workbooks" / f"{name}.xlsx")

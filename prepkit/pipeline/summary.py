@@ -1,0 +1,124 @@
+"""Results as a JSON-serialisable dictionary.
+
+Every metric of every scenario and variant, the interventions' effect and
+the transmissibility table. Keys carry units; dates are ISO strings; NaN
+and infinities become None; numpy numbers become Python numbers.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+from collections.abc import Mapping
+from dataclasses import asdict, is_dataclass
+from typing import Any
+
+import numpy as np
+
+from prepkit.plan import Plan
+from prepkit.scenarios.runs import PlanResults, ScenarioRun
+
+SUMMARY_VERSION = 2  # 2: deaths keys say "hospital_deaths"
+"""Bumped when keys are renamed or removed."""
+
+
+def jsonable(value: Any) -> Any:
+    """Convert a value to plain JSON types (dates to ISO strings, NaN/inf to None).
+
+    Parameters
+    ----------
+    value : object
+        Dataclass, mapping, sequence, number, date or string.
+
+    Returns
+    -------
+    object
+        The same content built from dict, list, str, int, float, bool and None.
+    """
+    if is_dataclass(value) and not isinstance(value, type):
+        return jsonable(asdict(value))
+    if isinstance(value, Mapping):
+        return {str(k): jsonable(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [jsonable(v) for v in value.tolist()]
+    if isinstance(value, dt.datetime):
+        return value.date().isoformat()
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    if isinstance(value, bool | np.bool_):
+        return bool(value)
+    if isinstance(value, int | np.integer):
+        return int(value)
+    if isinstance(value, float | np.floating):
+        number = float(value)
+        return number if math.isfinite(number) else None
+    return value
+
+
+def _run_dict(run: ScenarioRun) -> dict[str, Any]:
+    out: dict[str, Any] = jsonable(run.metrics)
+    out["substeps_per_day"] = run.substeps
+    return out
+
+
+def _transmissibility_dict(item: Any) -> dict[str, Any]:
+    out: dict[str, Any] = jsonable(item)
+    unit = {"r0": "dimensionless", "doubling_time": "days", "growth_rate": "per_day"}
+    out["given_value_unit"] = unit.get(str(out.get("measure")), "")
+    return out
+
+
+def summary_dict(plan: Plan, results: PlanResults) -> dict[str, Any]:
+    """Summarise plan results as a JSON-serialisable dictionary.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan that was run.
+    results : PlanResults
+        Its results from :func:`prepkit.scenarios.runs.run_plan`.
+
+    Returns
+    -------
+    dict
+        ``{"summary_version", "plan", "transmissibility_by_level",
+        "scenarios"}``; each scenario holds its levels, interventions, the
+        numbers picked for it (``"inputs_used"``), transmissibility, ``"with_interventions"`` and
+        ``"without_interventions"`` metrics and ``"intervention_effect"``.
+    """
+    scenarios = []
+    for item in results.scenarios:
+        scenario = item.scenario
+        scenarios.append(
+            {
+                "name": scenario.name,
+                "description": scenario.description,
+                "transmissibility_level": scenario.transmissibility_level,
+                "severity_level": scenario.severity_level,
+                "interventions": list(scenario.interventions),
+                "inputs_used": jsonable(item.with_interventions.inputs),
+                "transmissibility": _transmissibility_dict(item.transmissibility),
+                "with_interventions": _run_dict(item.with_interventions),
+                "without_interventions": _run_dict(item.without_interventions),
+                "intervention_effect": jsonable(item.effect),
+            }
+        )
+    details = plan.details
+    return {
+        "summary_version": SUMMARY_VERSION,
+        "plan": {
+            "jurisdiction": details.jurisdiction,
+            "title": details.title,
+            "day0": details.day0.isoformat(),
+            "horizon_days": int(details.horizon_days),
+            "population_persons": jsonable(plan.population),
+            "bands": [b.label for b in plan.bands],
+        },
+        "transmissibility_by_level": {
+            level: _transmissibility_dict(value)
+            for level, value in results.transmissibility_by_level.items()
+        },
+        "scenarios": scenarios,
+    }

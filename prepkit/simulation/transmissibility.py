@@ -1,0 +1,468 @@
+"""Reproduction numbers, growth rate and generation time from the model itself.
+
+Equations in words
+------------------
+Near the disease-free state the infected compartments (latent ``E``,
+``EV``; infectious ``A``, ``Y``, ``P``) follow a linear system
+``x' = (F - V) x``: ``F`` holds the new infections (only into the first
+latent stage, unprotected ``E_1`` and protected ``EV_1``), ``V`` every
+other transition (stage progressions, the split at the end of latency and
+leaving the infected subsystem by recovery or admission). Both are built
+here from the same parameter vector the kernels use, so the numbers below
+belong to the model that is simulated.
+
+* Next-generation matrix ``K = F V^-1`` (restricted to the entry states);
+  its spectral radius is the reproduction number. With everybody
+  susceptible, no interventions and ``season = 1`` it is R0. With the
+  day-0 susceptible shares and the day-0 season it is the effective R at
+  day 0.
+* Early growth rate ``r`` = dominant eigenvalue of ``F - V``.
+* Transmission scale ``beta`` enters ``F`` linearly, so a target R0 gives
+  ``beta = R0_target / R0(beta = 1)``. A target growth rate ``r`` gives
+  ``beta = 1 / rho(F_1 (V + r I)^-1)`` (the matrix form of the
+  Euler-Lotka relation ``R = 1 / M(-r)``); the dominant eigenvalue of
+  ``F - V`` at that beta is then exactly ``r``.
+* Mean generation time from the first moment of the next-generation
+  kernel: ``Tg = u' F V^-2 w / (R u' w)`` with ``u, w`` the left and right
+  Perron vectors of ``K``. For one band with ``m`` latent and ``n``
+  infectious Erlang stages this equals
+  ``latent mean + (n + 1) / (2 n) x infectious mean``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import NDArray
+from scipy.linalg import solve_triangular
+
+from prepkit.errors import ModelError
+from prepkit.simulation.layout import (
+    BLK_A,
+    BLK_E,
+    BLK_EV,
+    BLK_P,
+    BLK_Y,
+    INFECTED_BLOCKS,
+    N_SETTINGS,
+    P_ADMIT,
+    P_ADMIT_PROTECTED,
+    P_POP,
+    P_SUSCEPTIBILITY,
+    P_SYMPTOMATIC,
+    P_WAIT_RATE,
+    S_BETA,
+    S_INFECTIOUS_RATE,
+    S_LATENT_RATE,
+    S_RHO,
+    S_VE_INFECTION,
+    StateLayout,
+    matrix_offset,
+    scalar_offset,
+)
+
+NOBODY_INFECTS = (
+    "nobody can infect anybody: contacts, susceptibility or infectiousness are all zero, or "
+    "too small for any transmission per contact to give the transmissibility asked for"
+)
+"""Message of a plan whose transmission scale would be zero or infinite."""
+
+
+def transmission_is_finite(
+    beta: NDArray[np.float64] | float, pc: NDArray[np.float64], layout: StateLayout
+) -> NDArray[np.bool_]:
+    """True where the daily transmission matrix of a transmission scale stays finite.
+
+    The kernels form ``(beta sigma_i) (sum_s mult_s M^s_ij) / N_j`` in that order
+    (:func:`prepkit.simulation.kernels.contact_matrix`) with every multiplier at most 1, so
+    the products ``beta sigma_i`` and ``beta sigma_i max_j sum_s M^s_ij`` decide.
+
+    Parameters
+    ----------
+    beta : float or ndarray
+        Transmission scales [per contact].
+    pc : ndarray
+        Parameter vector (populations, susceptibility, contact matrices).
+    layout : StateLayout
+        State layout.
+
+    Returns
+    -------
+    ndarray of bool
+        One per ``beta``.
+    """
+    nb = layout.bands
+    mo = matrix_offset(nb)
+    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
+    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
+    scale = np.asarray(beta, dtype=np.float64)[..., None] * sigma
+    with np.errstate(over="ignore", invalid="ignore"):
+        top = scale * contacts.max(axis=1)
+    return np.asarray(np.isfinite(scale).all(axis=-1) & np.isfinite(top).all(axis=-1))
+
+
+@dataclass(frozen=True, kw_only=True)
+class Transmissibility:
+    """Transmissibility figures of one run.
+
+    Attributes
+    ----------
+    measure : str
+        Measure the plan gives ("r0", "doubling_time" or "growth_rate").
+    level : str
+        Transmissibility level ("low", "central", "high").
+    given_value : float
+        Value of the measure at that level [dimensionless, days or 1/day].
+    beta_per_contact : float
+        Transmission scale found from the measure [per contact].
+    r0 : float
+        Basic reproduction number, fully susceptible, no interventions,
+        season = 1 [dimensionless].
+    growth_rate_per_day : float
+        Early exponential growth rate under the same conditions [1/day].
+    doubling_time_days : float or None
+        ``ln 2 / r`` [days]; None when the epidemic does not grow.
+    mean_generation_time_days : float
+        Mean generation time, first moment of the next-generation kernel
+        [days].
+    r_effective_day0 : float
+        Reproduction number at day 0 with prior immunity and day-0 seeding
+        taken out of the susceptibles, with the day-0 season, without
+        interventions [dimensionless].
+    """
+
+    measure: str
+    level: str
+    given_value: float
+    beta_per_contact: float
+    r0: float
+    growth_rate_per_day: float
+    doubling_time_days: float | None
+    mean_generation_time_days: float
+    r_effective_day0: float
+
+
+def _subsystem_offsets(layout: StateLayout) -> dict[int, int]:
+    out: dict[int, int] = {}
+    pos = 0
+    for block in INFECTED_BLOCKS:
+        out[block] = pos
+        pos += layout.stages(block) * layout.bands
+    out[-1] = pos
+    return out
+
+
+def infected_subsystem(
+    pc: NDArray[np.float64],
+    layout: StateLayout,
+    *,
+    beta: float | None = None,
+    unprotected_share: NDArray[np.float64] | None = None,
+    protected_share: NDArray[np.float64] | None = None,
+    contact_multipliers: NDArray[np.float64] | None = None,
+    symptomatic_multiplier: float = 1.0,
+    waiting_multiplier: NDArray[np.float64] | None = None,
+    season: float = 1.0,
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.int64]]:
+    """Transmission and transition matrices of the linearised infected subsystem.
+
+    Parameters
+    ----------
+    pc : ndarray
+        Parameter vector of the compiled model.
+    layout : StateLayout
+        State layout.
+    beta : float, optional
+        Transmission scale [per contact]; default the one in ``pc``.
+    unprotected_share : ndarray, optional
+        Per band, share of the population susceptible and unprotected
+        (``(S + V0) / N``) [fraction]; default 1.
+    protected_share : ndarray, optional
+        Per band, share protected by vaccine (``V / N``) [fraction]; default 0.
+    contact_multipliers : ndarray, optional
+        Multiplier of each setting's contacts [fraction]; default 1.
+    symptomatic_multiplier : float
+        Isolation multiplier of symptomatic people at home [fraction].
+    waiting_multiplier : ndarray, optional
+        Per band isolation multiplier of people waiting for admission.
+    season : float
+        Seasonal multiplier [dimensionless].
+
+    Returns
+    -------
+    F : ndarray
+        New-infection matrix [1/day].
+    V : ndarray
+        Transition matrix [1/day].
+    entries : ndarray of int
+        Rows of ``F`` that can be non-zero (first latent stages).
+
+    References
+    ----------
+    van den Driessche P., Watmough J. (2002). Reproduction numbers and
+    sub-threshold endemic equilibria for compartmental models of disease
+    transmission. Mathematical Biosciences 180:29-48.
+    doi:10.1016/S0025-5564(02)00108-6
+    """
+    nb = layout.bands
+    sc = scalar_offset(nb)
+    pop = pc[P_POP * nb : (P_POP + 1) * nb]
+    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
+    p_sym = pc[P_SYMPTOMATIC * nb : (P_SYMPTOMATIC + 1) * nb]
+    h = pc[P_ADMIT * nb : (P_ADMIT + 1) * nb]
+    hv = pc[P_ADMIT_PROTECTED * nb : (P_ADMIT_PROTECTED + 1) * nb]
+    wait_rate = pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb]
+    lat = pc[sc + S_LATENT_RATE]
+    inf = pc[sc + S_INFECTIOUS_RATE]
+    rho = pc[sc + S_RHO]
+    ve = pc[sc + S_VE_INFECTION]
+    b = pc[sc + S_BETA] if beta is None else beta
+    s_share = np.ones(nb) if unprotected_share is None else np.asarray(unprotected_share)
+    v_share = np.zeros(nb) if protected_share is None else np.asarray(protected_share)
+    mult = np.ones(N_SETTINGS) if contact_multipliers is None else contact_multipliers
+    iso_p = np.ones(nb) if waiting_multiplier is None else waiting_multiplier
+    mo = matrix_offset(nb)
+    base = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb)
+    contacts = np.tensordot(mult, base, axes=1)
+
+    off = _subsystem_offsets(layout)
+    size = off[-1]
+    m, n, k = layout.latent_stages, layout.infectious_stages, layout.wait_stages
+
+    def at(block: int, stage: int, band: int) -> int:
+        return off[block] + stage * nb + band
+
+    f_mat = np.zeros((size, size))
+    per_contact = b * season * (sigma * pop)[:, None] * contacts / pop[None, :]
+    for i in range(nb):
+        for row_share, block in ((s_share[i], BLK_E), ((1.0 - ve) * v_share[i], BLK_EV)):
+            if row_share == 0.0:
+                continue
+            row = at(block, 0, i)
+            for j in range(nb):
+                coef = row_share * per_contact[i, j]
+                for s in range(n):
+                    f_mat[row, at(BLK_A, s, j)] += coef * rho
+                    f_mat[row, at(BLK_Y, s, j)] += coef * symptomatic_multiplier
+                for s in range(k):
+                    f_mat[row, at(BLK_P, s, j)] += coef * iso_p[j]
+
+    v_mat = np.zeros((size, size))
+
+    def chain(block: int, stages: int, rate: float, band: int) -> int:
+        for s in range(stages):
+            here = at(block, s, band)
+            v_mat[here, here] += rate
+            if s + 1 < stages:
+                v_mat[at(block, s + 1, band), here] -= rate
+        return at(block, stages - 1, band)
+
+    for i in range(nb):
+        for block, adm in ((BLK_E, h[i]), (BLK_EV, hv[i])):
+            last = chain(block, m, lat, i)
+            v_mat[at(BLK_A, 0, i), last] -= (1.0 - p_sym[i]) * lat
+            v_mat[at(BLK_Y, 0, i), last] -= (p_sym[i] - adm) * lat
+            v_mat[at(BLK_P, 0, i), last] -= adm * lat
+        chain(BLK_A, n, inf, i)
+        chain(BLK_Y, n, inf, i)
+        chain(BLK_P, k, float(wait_rate[i]), i)
+    entries = np.array(
+        [at(BLK_E, 0, i) for i in range(nb)] + [at(BLK_EV, 0, i) for i in range(nb)],
+        dtype=np.int64,
+    )
+    return f_mat, v_mat, entries
+
+
+def _solve(v_mat: NDArray[np.float64], rhs: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Solve ``V x = rhs``; ``V`` is lower triangular in the subsystem's stage order."""
+    if not np.any(np.triu(v_mat, 1)):
+        return np.asarray(solve_triangular(v_mat, rhs, lower=True), dtype=np.float64)
+    return np.asarray(np.linalg.solve(v_mat, rhs), dtype=np.float64)
+
+
+def next_generation_matrix(
+    f_mat: NDArray[np.float64], v_mat: NDArray[np.float64], entries: NDArray[np.int64]
+) -> NDArray[np.float64]:
+    """Next-generation matrix on the entry states, ``(F V^-1)[entries, entries]``.
+
+    Parameters
+    ----------
+    f_mat, v_mat : ndarray
+        Matrices from :func:`infected_subsystem` [1/day].
+    entries : ndarray of int
+        Entry states.
+
+    Returns
+    -------
+    ndarray
+        ``K[a, b]`` expected new infections entering state ``a`` caused by
+        one infected person entering state ``b`` [dimensionless].
+
+    References
+    ----------
+    Diekmann O., Heesterbeek J.A.P., Metz J.A.J. (1990). On the definition
+    and the computation of the basic reproduction ratio R0 in models for
+    infectious diseases in heterogeneous populations. J. Math. Biol.
+    28:365-382. doi:10.1007/BF00178324
+    """
+    unit = np.zeros((v_mat.shape[0], entries.size))
+    unit[entries, np.arange(entries.size)] = 1.0
+    return np.asarray(f_mat[entries, :] @ _solve(v_mat, unit), dtype=np.float64)
+
+
+def spectral_radius(matrix: NDArray[np.float64]) -> float:
+    """Largest absolute eigenvalue."""
+    if matrix.size == 0:
+        return 0.0
+    return float(np.max(np.abs(np.linalg.eigvals(matrix))))
+
+
+def spectral_abscissa(matrix: NDArray[np.float64]) -> float:
+    """Largest real part of the eigenvalues."""
+    return float(np.max(np.linalg.eigvals(matrix).real))
+
+
+def reproduction_number(
+    pc: NDArray[np.float64], layout: StateLayout, **conditions: object
+) -> float:
+    """Spectral radius of the next-generation matrix.
+
+    Parameters
+    ----------
+    pc : ndarray
+        Parameter vector.
+    layout : StateLayout
+        State layout.
+    **conditions
+        Passed to :func:`infected_subsystem` (susceptible shares,
+        multipliers, season, beta).
+
+    Returns
+    -------
+    float
+        Reproduction number [dimensionless].
+
+    References
+    ----------
+    Diekmann O., Heesterbeek J.A.P., Metz J.A.J. (1990). J. Math. Biol.
+    28:365-382. van den Driessche P., Watmough J. (2002). Math. Biosci.
+    180:29-48.
+    """
+    f_mat, v_mat, entries = infected_subsystem(pc, layout, **conditions)  # type: ignore[arg-type]
+    return spectral_radius(next_generation_matrix(f_mat, v_mat, entries))
+
+
+def growth_rate(pc: NDArray[np.float64], layout: StateLayout, **conditions: object) -> float:
+    """Early exponential growth rate, the dominant eigenvalue of ``F - V`` [1/day].
+
+    References
+    ----------
+    Wallinga J., Lipsitch M. (2007). How generation intervals shape the
+    relationship between growth rates and reproductive numbers. Proc. R.
+    Soc. B 274:599-604. doi:10.1098/rspb.2006.3754
+    """
+    f_mat, v_mat, _ = infected_subsystem(pc, layout, **conditions)  # type: ignore[arg-type]
+    return spectral_abscissa(f_mat - v_mat)
+
+
+def beta_for_r0(target_r0: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
+    """Transmission scale giving a target R0 (fully susceptible, season 1).
+
+    Parameters
+    ----------
+    target_r0 : float
+        Basic reproduction number [dimensionless].
+    pc : ndarray
+        Parameter vector (its beta is ignored).
+    layout : StateLayout
+        State layout.
+
+    Returns
+    -------
+    float
+        beta [per contact].
+    """
+    unit = reproduction_number(pc, layout, beta=1.0)
+    if not (unit > 0.0 and math.isfinite(float(target_r0) / unit)):
+        raise ModelError(NOBODY_INFECTS)
+    return float(target_r0) / unit
+
+
+def beta_for_growth_rate(target_r: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
+    """Transmission scale giving a target early growth rate.
+
+    Uses ``beta = 1 / rho(F_1 (V + r I)^-1)``, which makes ``r`` the dominant
+    eigenvalue of ``F - V`` (``V + r I`` stays a non-singular M-matrix for
+    ``r`` above minus the slowest exit rate).
+
+    Parameters
+    ----------
+    target_r : float
+        Growth rate [1/day].
+    pc : ndarray
+        Parameter vector (its beta is ignored).
+    layout : StateLayout
+        State layout.
+
+    Returns
+    -------
+    float
+        beta [per contact].
+
+    References
+    ----------
+    Wallinga J., Lipsitch M. (2007). Proc. R. Soc. B 274:599-604.
+    Wearing H.J., Rohani P., Keeling M.J. (2005). Appropriate models for the
+    management of infectious diseases. PLoS Medicine 2:e174.
+    doi:10.1371/journal.pmed.0020174
+    """
+    f_mat, v_mat, entries = infected_subsystem(pc, layout, beta=1.0)
+    slowest = float(np.min(np.diag(v_mat)))
+    if target_r <= -slowest:
+        raise ModelError(
+            f"growth rate {target_r:.4g}/day is below what any transmission can give "
+            f"(-{slowest:.4g}/day)"
+        )
+    shifted = v_mat + target_r * np.eye(v_mat.shape[0])
+    unit = spectral_radius(next_generation_matrix(f_mat, shifted, entries))
+    if not (unit > 0.0 and math.isfinite(1.0 / unit)):
+        raise ModelError(NOBODY_INFECTS)
+    return 1.0 / unit
+
+
+def mean_generation_time(
+    pc: NDArray[np.float64], layout: StateLayout, **conditions: object
+) -> float:
+    """Mean generation time from the first moment of the next-generation kernel [days].
+
+    References
+    ----------
+    Wallinga J., Lipsitch M. (2007). Proc. R. Soc. B 274:599-604 (generation
+    interval of a compartmental model); Diekmann O., Heesterbeek J.A.P.,
+    Roberts M.G. (2010). The construction of next-generation matrices for
+    compartmental epidemic models. J. R. Soc. Interface 7:873-885.
+    """
+    f_mat, v_mat, entries = infected_subsystem(pc, layout, **conditions)  # type: ignore[arg-type]
+    unit = np.zeros((v_mat.shape[0], entries.size))
+    unit[entries, np.arange(entries.size)] = 1.0
+    first = _solve(v_mat, unit)
+    k0 = f_mat[entries, :] @ first
+    k1 = f_mat[entries, :] @ _solve(v_mat, first)
+    values, right = np.linalg.eig(k0)
+    top = int(np.argmax(values.real))
+    radius = float(values[top].real)
+    if radius <= 0.0:
+        return float("nan")
+    w = np.abs(right[:, top].real)
+    values_t, left = np.linalg.eig(k0.T)
+    u = np.abs(left[:, int(np.argmax(values_t.real))].real)
+    return float(u @ k1 @ w / (radius * (u @ w)))
+
+
+def doubling_time(rate: float) -> float | None:
+    """Doubling time ``ln 2 / r`` [days], None when ``r <= 0``."""
+    if rate <= 0.0:
+        return None
+    return float(np.log(2.0) / rate)

@@ -1,0 +1,1 @@
+"""uncertainty stage."""

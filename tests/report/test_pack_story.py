@@ -1,0 +1,263 @@
+"""The pack tells one story: one headline per quantity, whole beds, labelled deaths, observations.
+
+Both sample packs are rendered once (the city with a small ensemble, the town
+without) and read back from the HTML file, whose structure is exact, and from
+the PDF text.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import shutil
+from html.parser import HTMLParser
+from pathlib import Path
+
+import openpyxl
+import pytest
+from scipy import stats
+
+from prepkit.pipeline import run as pipeline
+from prepkit.report import context as words
+from prepkit.report.observed import consistent_with
+from prepkit.scenarios.runs import run_plan
+from prepkit.uncertainty.run import run_uncertainty
+from prepkit.workbook.reader import read_plan
+
+SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"
+DRAWS = 40
+
+
+class _Text(HTMLParser):
+    """Visible text by section id, and the cells of every table row."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.rows: list[list[str]] = []
+        self.row_sections: list[str] = []
+        self._row: list[str] | None = None
+        self._cell: list[str] | None = None
+        self.sections: dict[str, list[str]] = {}
+        self._section = "cover"
+        self._skip = 0
+
+    def handle_starttag(self, tag: str, attrs: list[tuple[str, str | None]]) -> None:
+        found = dict(attrs)
+        if tag in ("style", "script"):
+            self._skip += 1
+        if tag in ("section", "h2") and found.get("id"):
+            self._section = str(found["id"])
+        if tag == "tr":
+            self._row = []
+        if tag in ("td", "th") and self._row is not None:
+            self._cell = []
+
+    def handle_endtag(self, tag: str) -> None:
+        if tag in ("style", "script"):
+            self._skip -= 1
+        if tag in ("td", "th") and self._row is not None and self._cell is not None:
+            self._row.append(" ".join("".join(self._cell).split()))
+            self._cell = None
+        if tag == "tr" and self._row is not None:
+            self.rows.append(self._row)
+            self.row_sections.append(self._section)
+            self._row = None
+
+    def handle_data(self, data: str) -> None:
+        if self._skip:
+            return
+        self.sections.setdefault(self._section, []).append(data)
+        if self._cell is not None:
+            self._cell.append(data)
+
+    def section(self, name: str) -> str:
+        return " ".join(" ".join(self.sections.get(name, [])).split())
+
+
+def _render(workbook: Path, outdir: Path, draws: int) -> _Text:
+    with pytest.MonkeyPatch.context() as mp:
+        mp.setenv("SOURCE_DATE_EPOCH", "1700000000")
+        mp.setenv("CI", "true")
+        pipeline.run_workbook(workbook, pipeline.RunOptions(outdir=outdir, draws=draws),
+                              lambda _message: None)
+    parsed = _Text()
+    parsed.feed((outdir / "briefing-pack.html").read_text(encoding="utf-8"))
+    return parsed
+
+
+@pytest.fixture(scope="module")
+def city(tmp_path_factory: pytest.TempPathFactory) -> tuple[_Text, Path, object]:
+    folder = tmp_path_factory.mktemp("story-city")
+    workbook = folder / "vellmora_city.xlsx"
+    shutil.copyfile(SAMPLES / "vellmora_city.xlsx", workbook)
+    return _render(workbook, folder / "pack", DRAWS), folder / "pack", read_plan(workbook)
+
+
+@pytest.fixture(scope="module")
+def town(tmp_path_factory: pytest.TempPathFactory) -> tuple[_Text, Path, object]:
+    folder = tmp_path_factory.mktemp("story-town")
+    workbook = folder / "tamsett_hollow.xlsx"
+    shutil.copyfile(SAMPLES / "tamsett_hollow.xlsx", workbook)
+    return _render(workbook, folder / "pack", 0), folder / "pack", read_plan(workbook)
+
+
+def _views(plan: object, draws: int) -> tuple[tuple[words.ScenarioView, ...], object]:
+    results = run_plan(plan)  # type: ignore[arg-type]
+    uncertainty = run_uncertainty(plan, results, draws=draws) if draws else None  # type: ignore[arg-type]
+    views = words.with_observations(plan, words.scenario_views(plan, results), uncertainty)  # type: ignore[arg-type]
+    return views, uncertainty
+
+
+# ---- One headline -------------------------------------------------------------------------------
+
+
+def test_each_peak_prints_the_same_number_on_every_page(city: tuple[_Text, Path, object]) -> None:
+    parsed, _, plan = city
+    views, _ = _views(plan, DRAWS)
+    spread = {row[0]: row[1:] for row in parsed.rows if len(row) == 10 and row[0] != "Scenario"}
+    assert set(spread) == {v.name for v in views}
+    for view in views:
+        for kind, offset in (("ward", 0), ("icu", 3)):
+            peak = words.format_number(getattr(view.with_metrics, kind).peak_demand_beds)
+            # The uncertainty table puts the central run first, beside median and range ...
+            assert spread[view.name][offset] == peak
+            # ... and the scenario page and the leader page quote that same run.
+            page = parsed.section(f"scenario-{view.number}")
+            assert f"peaking at {peak} " in page
+        leader = parsed.section("summary")
+        ward = view.with_metrics.ward
+        if ward.days_over_capacity_days:
+            assert f"demand peaks at {words.format_number(ward.peak_demand_beds)} " in leader
+
+
+def test_the_policy_is_said_where_the_two_kinds_of_figure_meet(
+    city: tuple[_Text, Path, object]
+) -> None:
+    parsed, _, _ = city
+    uncertainty = parsed.section("uncertainty")
+    assert "Every figure outside this section comes from the central run" in uncertainty
+    assert "Central run Median Range" in " ".join(" ".join(r) for r in parsed.rows)
+    assert "central run quoted elsewhere in this pack" in parsed.section("summary")
+
+
+# ---- Whole beds and people ----------------------------------------------------------------------
+
+_DECIMAL_COUNT = re.compile(
+    r"\b\d+\.\d+\s*(?:beds?|ward|ICU|patients|people|persons|admissions|deaths|bed-days|"
+    r"available|more)\b"
+)
+
+
+@pytest.mark.parametrize("which", ["city", "town"])
+def test_beds_and_people_are_whole_outside_the_methods(
+    which: str, request: pytest.FixtureRequest
+) -> None:
+    parsed, _, _ = request.getfixturevalue(which)
+    for name, texts in parsed.sections.items():
+        if name in ("methods", "assumptions", "provenance"):
+            continue
+        text = " ".join(" ".join(texts).split())
+        assert not _DECIMAL_COUNT.search(text), (name, _DECIMAL_COUNT.search(text))
+    for row, where in zip(parsed.rows, parsed.row_sections, strict=True):
+        if where in ("methods", "assumptions", "provenance"):
+            continue
+        for cell in row[1:]:
+            # Table cells of counts: whole numbers, "<1", dashes, dates, chances, percentages.
+            if re.fullmatch(r"[\d,.]+", cell):
+                assert "." not in cell, row
+
+
+def test_town_sentences_add_up(town: tuple[_Text, Path, object]) -> None:
+    parsed, _, plan = town
+    views, _ = _views(plan, 0)
+    for view in views:
+        bed = view.with_metrics.icu
+        if bed.days_over_capacity_days:
+            short = words.bed_shortfall(bed)
+            peak = round(bed.peak_demand_beds)
+            available = round(bed.available_beds)
+            assert short == peak - available
+            assert f"peaking at {peak} beds" in parsed.section(f"scenario-{view.number}")
+
+
+# ---- Deaths say what they are -------------------------------------------------------------------
+
+
+def test_deaths_are_labelled_everywhere(city: tuple[_Text, Path, object]) -> None:
+    parsed, outdir, _ = city
+    assert words.DEATHS_NOTE in parsed.section("summary")
+    for row in parsed.rows:
+        for cell in row[:1]:
+            if "eath" in cell:
+                assert "hospital patients" in cell, cell
+
+    def keys(node: object) -> list[str]:
+        if isinstance(node, dict):
+            return [k for k in node] + [k2 for v in node.values() for k2 in keys(v)]
+        if isinstance(node, list):
+            return [k for v in node for k in keys(v)]
+        return []
+
+    summary = json.loads((outdir / "summary.json").read_text(encoding="utf-8"))
+    death_keys = {k for k in keys(summary) if "death" in k}
+    assert death_keys and all("hospital_deaths" in k for k in death_keys), death_keys
+    book = openpyxl.load_workbook(outdir / "results.xlsx", read_only=True)
+    for ws in book.worksheets:
+        for row in ws.iter_rows(max_row=6, values_only=True):
+            for value in row:
+                if isinstance(value, str) and "eath" in value and "[" in value:
+                    assert "hospital patients" in value, (ws.title, value)
+    header = (outdir / "daily-series.csv").read_text(encoding="utf-8").splitlines()[0]
+    assert all("hospital_deaths" in c for c in header.split(",") if "death" in c)
+
+
+# ---- Observed figures ---------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("observed", "low", "high", "expected"),
+    [
+        (5.0, 1.0, 10.0, True),     # inside the range
+        # Above: P(X >= 5 | Poisson(2)) = 0.0527 >= 0.05; P(X >= 6 | 2) = 0.0166 < 0.05.
+        (5.0, 0.0, 2.0, True),
+        (6.0, 0.0, 2.0, False),
+        (15.0, 1.0, 2.0, False),
+        # Below: P(X <= 1 | Poisson(5)) = 0.0404 < 0.05; P(X <= 2 | 5) = 0.125.
+        (1.0, 5.0, 9.0, False),
+        (2.0, 5.0, 9.0, True),
+    ],
+)
+def test_consistency_rule_uses_poisson_tails(
+    observed: float, low: float, high: float, expected: bool
+) -> None:
+    # Poisson tail probabilities computed independently with scipy.stats.poisson
+    # (the rule itself: common practice, no source).
+    assert consistent_with(observed, low, high) is expected
+    if observed > high:
+        assert bool(stats.poisson.sf(observed - 1, high) >= 0.05) is expected
+
+
+def test_scenario_pages_compare_with_the_observations(city: tuple[_Text, Path, object]) -> None:
+    parsed, _, plan = city
+    views, _ = _views(plan, DRAWS)
+    flagged = []
+    for view in views:
+        page = parsed.section(f"scenario-{view.number}")
+        assert view.observed_sentence and view.observed_sentence in page
+        assert f"Observed on {words.format_date(view.observed[0].date)}: " in page
+        ward = next(c for c in view.observed if c.kind == "ward")
+        assert f"this scenario: {words.format_number(ward.central_beds, words=True)}" in page
+        if view.contradicted:
+            flagged.append(view.name)
+            assert "already lie" in page
+    leader = parsed.section("summary")
+    assert flagged, "the city sample's observations rule out at least one scenario"
+    assert words.observed_flag(views) in leader
+    for name in flagged:
+        assert words.quoted(name) in words.observed_flag(views)
+
+
+def test_no_observations_no_sentence(town: tuple[_Text, Path, object]) -> None:
+    parsed, _, plan = town
+    assert not plan.observed  # type: ignore[attr-defined]
+    assert "Observed on" not in " ".join(" ".join(t) for t in parsed.sections.values())
