@@ -7,8 +7,10 @@ attributes so code and tests can inspect them instead of parsing messages.
 
 from __future__ import annotations
 
+import errno
 from collections.abc import Iterable
 from dataclasses import dataclass
+from pathlib import Path
 
 from prepkit.base.plural import counted
 
@@ -156,3 +158,204 @@ class OutputError(OSError, PrepkitError):
         if self.strerror and self.filename and str(self.filename) not in self.strerror:
             return f"{self.strerror}: {self.filename}"
         return self.strerror or super().__str__()
+
+
+# ---- Errors of the output files, the report and the run -----------------------------------------
+# (moved here from pipeline/outputs.py, pipeline/manifest.py, pipeline/run.py, pipeline/watch.py,
+# report/render.py and report/safety.py; each names its field or path, what was expected and
+# what was found)
+
+
+class SourceDateError(ValueError, PrepkitError):
+    """``SOURCE_DATE_EPOCH`` is set but is not a whole number of seconds.
+
+    Parameters
+    ----------
+    value : str
+        The variable's value.
+    """
+
+    field = "SOURCE_DATE_EPOCH"
+    expected = "a whole number of seconds since 1970-01-01 UTC"
+
+    def __init__(self, value: str) -> None:
+        self.value = value
+        self.found = repr(value)
+        super().__init__(
+            f"SOURCE_DATE_EPOCH: expected a whole number of seconds since 1970-01-01 UTC "
+            f"(the run time stamped on the pack), found {value!r}; set it to a number such as "
+            "1700000000, or unset it to stamp the current time"
+        )
+
+
+def _shown(names: tuple[str, ...], limit: int) -> str:
+    shown = ", ".join(names[:limit])
+    if len(names) > limit:
+        shown += f" and {len(names) - limit} more"
+    return shown
+
+
+class _PackFolderError(OutputError):
+    """An output folder holds files a new pack may not replace.
+
+    Parameters
+    ----------
+    outdir : pathlib.Path
+        The output folder (``field`` names it too).
+    names : tuple of str
+        Relative paths of the files at fault.
+    expected : str
+        What the folder should hold.
+    sentence : str
+        The whole message, naming the folder.
+    """
+
+    #: Names shown in the message; the rest are counted.
+    SHOWN = 4
+
+    def __init__(self, outdir: Path, names: tuple[str, ...], expected: str, sentence: str
+                 ) -> None:
+        self.outdir = outdir
+        self.names = names
+        self.field = str(outdir)
+        self.expected = expected
+        self.found = _shown(names, self.SHOWN)
+        super().__init__(errno.EEXIST, sentence, str(outdir))
+
+    def __str__(self) -> str:
+        # The folder is named inside the sentence already.
+        return self.strerror or super().__str__()
+
+
+class UnexpectedFilesError(_PackFolderError):
+    """The output folder holds files that prepkit did not write.
+
+    Parameters
+    ----------
+    outdir : pathlib.Path
+        The output folder.
+    names : tuple of str
+        Relative paths of the files and folders not listed in its manifest.
+    """
+
+    def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
+        expected = "an empty folder or one holding only an earlier prepkit pack"
+        super().__init__(
+            outdir, names, expected,
+            f"output folder {outdir}: expected {expected} (the whole folder is replaced), found "
+            f"files prepkit did not write: {_shown(names, self.SHOWN)}. Nothing was written; "
+            "choose another output folder, or move those files out of it",
+        )
+
+
+class EditedFilesError(_PackFolderError):
+    """Files of the earlier pack were changed since prepkit wrote them.
+
+    Parameters
+    ----------
+    outdir : pathlib.Path
+        The output folder.
+    names : tuple of str
+        Relative paths of the changed files.
+    """
+
+    def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
+        expected = "the earlier pack's files as prepkit wrote them"
+        super().__init__(
+            outdir, names, expected,
+            f"output folder {outdir}: expected {expected} (the whole folder is replaced), found "
+            f"files changed since: {_shown(names, self.SHOWN)}. Nothing was written; move them "
+            "out of the folder to keep them, or run again with --force to replace them",
+        )
+
+
+class InputChangedError(RuntimeError, PrepkitError):
+    """The planning workbook changed while prepkit was running.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The workbook.
+    before, after : str
+        Its SHA-256 when read and at the end of the run.
+    """
+
+    def __init__(self, path: Path, before: str, after: str) -> None:
+        self.path = path
+        self.before = before
+        self.after = after
+        self.field = str(path)
+        self.expected = f"the workbook as read (SHA-256 {before})"
+        self.found = f"SHA-256 {after}" if after else "no file"
+        super().__init__(
+            f"{path.name} changed while prepkit was running (SHA-256 {before[:12]} when read, "
+            f"{after[:12] or 'missing'} at the end), so the results may not match it; nothing "
+            "was written. Save the workbook, close it and run prepkit again."
+        )
+
+
+class WatchUnavailableError(PrepkitError, RuntimeError):
+    """The optional ``watchfiles`` package is not installed."""
+
+    field = "prepkit watch"
+    expected = "the watchfiles package"
+    found = "it is not installed"
+
+
+class PageSizeError(ValueError, PrepkitError):
+    """The laid-out pages do not have the paper size asked for.
+
+    Usually the template's ``page_size`` variable and the ``page_size``
+    given to :func:`prepkit.report.render.html_to_pdf` disagree.
+
+    Parameters
+    ----------
+    expected : str
+        Paper size asked for.
+    found : tuple of float
+        Width and height of the first wrong page [mm].
+    page : int
+        Its page number, from 1.
+    """
+
+    def __init__(self, expected: str, found: tuple[float, float], page: int) -> None:
+        self.expected = expected
+        self.found = found
+        self.page = page
+        self.field = f"page {page}"
+        super().__init__(
+            f"page {page}: expected {expected} paper, found "
+            f"{found[0]:.1f} x {found[1]:.1f} mm (does the template's page_size match?)"
+        )
+
+
+def shorten_data_uri(url: str, limit: int = 80) -> str:
+    """``data:`` URIs cut to ``limit`` characters (they can be megabytes)."""
+    if not url.startswith("data:") or len(url) <= limit:
+        return url
+    return url[: limit - 3] + "..."
+
+
+class FetchRefusedError(PermissionError, PrepkitError):
+    """A URL was refused by :class:`prepkit.report.safety.AssetFetcher`.
+
+    weasyprint catches the error, logs a warning and leaves the resource
+    out (an image shows its alt text; a stylesheet or font is skipped), so a
+    refused URL never stops a render.
+
+    Parameters
+    ----------
+    url : str
+        The URL as weasyprint asked for it.
+    reason : str
+        Why it was refused, in plain words.
+    """
+
+    expected = "a file of the prepkit.templates package, or a PNG or SVG data: image"
+
+    def __init__(self, url: str, reason: str) -> None:
+        self.url = url
+        self.reason = reason
+        self.field = shorten_data_uri(url)
+        self.found = reason
+        super().__init__(f"refused to fetch {shorten_data_uri(url)!r}: {reason}")

@@ -14,6 +14,14 @@ speak.
   be written. Then the model is compiled into a temporary folder for this
   run only, with a note saying so; the folder is removed at the end
   (:func:`remove_temporary_folders`).
+* :func:`prefer_single_threaded_blas`: small eigenproblems and matrix
+  products run faster on one thread than on many, so before numpy loads,
+  OpenBLAS and MKL are asked for one thread (only where the environment does
+  not already say otherwise).
+* :func:`in_ci` and :func:`on_terminal`: whether the run is under continuous
+  integration (the ``CI`` variable), where step messages are left out, and
+  whether progress goes to a terminal, where a progress bar may be drawn.
+  prepkit reads ``CI`` and the terminal here only.
 * :func:`os_error_message`: one sentence for an operating-system error
   (disk full, permission denied), naming the file.
 """
@@ -26,13 +34,17 @@ import os
 import shutil
 import sys
 import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
 
 __all__ = [
     "CACHE_NOTE",
     "check_environment",
+    "compiled_model",
+    "in_ci",
+    "on_terminal",
     "os_error_message",
-    "prepare_compiled_model",
-    "remove_temporary_folders",
+    "prefer_single_threaded_blas",
 ]
 
 #: Module holding the model's compiled (numba) kernels.
@@ -48,20 +60,18 @@ CACHE_NOTE = (
     "NUMBA_CACHE_DIR to a folder you can write to."
 )
 
-_TEMPORARY: list[str] = []
-
 
 def check_environment() -> None:
     """Check the environment variables prepkit and its libraries read.
 
     Raises
     ------
-    prepkit.pipeline.outputs.SourceDateError
+    prepkit.errors.SourceDateError
         When ``SOURCE_DATE_EPOCH`` is set to something other than a whole
         number of seconds. A blank value is removed (it means unset), so
         libraries that would fail on it never see it.
     """
-    from prepkit.pipeline.outputs import source_date
+    from prepkit.base.files import source_date
 
     raw = os.environ.get("SOURCE_DATE_EPOCH")
     if raw is not None and not raw.strip():
@@ -70,11 +80,15 @@ def check_environment() -> None:
     source_date()
 
 
-def prepare_compiled_model() -> str | None:
+@contextmanager
+def compiled_model() -> Iterator[str | None]:
     """Load the model's kernels, compiling into a temporary folder when no cache can be written.
 
-    Returns
-    -------
+    The temporary folder, when one is made, is removed when the ``with``
+    block ends.
+
+    Yields
+    ------
     str or None
         :data:`CACHE_NOTE` when the temporary folder is used, else None.
 
@@ -85,25 +99,55 @@ def prepare_compiled_model() -> str | None:
     """
     try:
         importlib.import_module(KERNELS_MODULE)
-        return None
+        cached = True
     except RuntimeError as exc:
         if _NO_CACHE not in str(exc):
             raise
+        cached = False
+    if cached:
+        yield None
+        return
     folder = tempfile.mkdtemp(prefix="prepkit-compiled-model-")
-    _TEMPORARY.append(folder)
-    os.environ["NUMBA_CACHE_DIR"] = folder
-    from numba.core import config
+    try:
+        os.environ["NUMBA_CACHE_DIR"] = folder
+        from numba.core import config
 
-    config.reload_config()
-    sys.modules.pop(KERNELS_MODULE, None)
-    importlib.import_module(KERNELS_MODULE)
-    return CACHE_NOTE
+        config.reload_config()
+        sys.modules.pop(KERNELS_MODULE, None)
+        importlib.import_module(KERNELS_MODULE)
+        yield CACHE_NOTE
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
 
 
-def remove_temporary_folders() -> None:
-    """Remove the temporary folders :func:`prepare_compiled_model` made."""
-    while _TEMPORARY:
-        shutil.rmtree(_TEMPORARY.pop(), ignore_errors=True)
+def prefer_single_threaded_blas() -> None:
+    """Default BLAS libraries to one thread, if numpy is not loaded yet.
+
+    The settings are read once, when numpy loads its BLAS library; after
+    that, changing them has no effect, so this does nothing then. Values a
+    user has set are kept.
+    """
+    if "numpy" in sys.modules:
+        return
+    for name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ.setdefault(name, "1")
+
+
+def in_ci() -> bool:
+    """True when the ``CI`` environment variable is set to anything but ``0``, ``false`` or ``no``.
+
+    Returns
+    -------
+    bool
+        Whether step messages are left out (continuous integration logs).
+    """
+    value = os.environ.get("CI", "").strip().lower()
+    return value not in ("", "0", "false", "no")
+
+
+def on_terminal() -> bool:
+    """True when standard error is a terminal, where a progress bar may be drawn."""
+    return bool(getattr(sys.stderr, "isatty", lambda: False)())
 
 
 _ADVICE = {

@@ -14,8 +14,10 @@ import shutil
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from prepkit import __version__
+from prepkit.cli.env import in_ci, on_terminal
 from prepkit.cli.help import (
     DRAWS_HELP,
     EXIT_INPUT,
@@ -36,9 +38,13 @@ from prepkit.errors import PrepkitError, WorkbookError
 __all__ = ["DEMO_OUTDIR", "EXIT_INPUT", "EXIT_INTERNAL", "EXIT_INTERRUPTED", "EXIT_OK", "entry",
            "main", "typed_command"]
 
-#: Default folder of ``prepkit demo`` (the same as :data:`prepkit.pipeline.run.DEMO_OUTDIR`;
+#: Default folder of ``prepkit demo`` (the same as :data:`prepkit.pipeline.demo.DEMO_OUTDIR`;
 #: kept here so that ``--help`` does not load the model).
 DEMO_OUTDIR = Path("prepkit-demo")
+
+
+if TYPE_CHECKING:
+    _Commands = argparse._SubParsersAction[argparse.ArgumentParser]
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -62,6 +68,14 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--version", action="version", version=f"prepkit {__version__}")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
 
+    _add_template_and_check(sub, formatter)
+    _add_run(sub, formatter)
+    _add_watch_and_demo(sub, formatter)
+    return p
+
+
+def _add_template_and_check(sub: _Commands, formatter: type[argparse.HelpFormatter]) -> None:
+    """The ``template`` and ``check`` commands."""
     t = sub.add_parser(
         "template", help="write a blank planning workbook", formatter_class=formatter,
         description=_para(
@@ -86,6 +100,9 @@ def _parser() -> argparse.ArgumentParser:
     )
     c.add_argument("workbook", type=Path, help=WORKBOOK_HELP)
 
+
+def _add_run(sub: _Commands, formatter: type[argparse.HelpFormatter]) -> None:
+    """The ``run`` command."""
     r = sub.add_parser(
         "run", help="run every scenario and write the briefing pack", formatter_class=formatter,
         description=_para(
@@ -118,6 +135,9 @@ def _parser() -> argparse.ArgumentParser:
                         "ADDRESS, e.g. tcp://SCHEDULER-HOST:8786; needs prepkit[cluster] "
                         "(default: on this machine's cores)")
 
+
+def _add_watch_and_demo(sub: _Commands, formatter: type[argparse.HelpFormatter]) -> None:
+    """The ``watch`` and ``demo`` commands."""
     w = sub.add_parser(
         "watch", help="build the pack, then rebuild it on every save", formatter_class=formatter,
         description=_para(
@@ -150,7 +170,6 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("--draws", type=int, default=None, metavar="N",
                    help="uncertainty draws per scenario and variant (default: the number the "
                         "sample workbook gives; 0 = no uncertainty ranges)")
-    return p
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -205,13 +224,11 @@ def _dispatch(args: argparse.Namespace) -> int:
     if args.command != "check":  # the commands that stamp a time on what they write
         cli_env.check_environment()
     if args.command in ("run", "watch", "demo"):
-        try:
-            note = cli_env.prepare_compiled_model()
+        cli_env.prefer_single_threaded_blas()  # before numpy loads, the only time it counts
+        with cli_env.compiled_model() as note:
             if note is not None and not getattr(args, "quiet", False):
                 print(note, file=sys.stderr)
             return _dispatch_command(args)
-        finally:
-            cli_env.remove_temporary_folders()
     return _dispatch_command(args)
 
 
@@ -230,7 +247,7 @@ def _dispatch_command(args: argparse.Namespace) -> int:
 
 
 def _template(path: Path, *, force: bool) -> int:
-    from prepkit.pipeline.outputs import atomic_write_with
+    from prepkit.base.files import atomic_write_with
     from prepkit.workbook.template import write_workbook
 
     if path.exists() and not force:
@@ -271,9 +288,10 @@ def _run(args: argparse.Namespace) -> int:
         summary_json=args.summary_json,
         draws=args.draws,
         summary_only=args.summary_only,
-        quiet=args.quiet,
         scheduler=args.scheduler,
         force=args.force,
+        quiet=args.quiet or in_ci(),
+        terminal=on_terminal(),
     )
     report = run_workbook(args.workbook, options, say=_sayer(args.quiet))
     if not args.quiet:
@@ -282,10 +300,11 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _demo(args: argparse.Namespace) -> int:
-    from prepkit.pipeline.run import RunOptions, run_demo
+    from prepkit.pipeline.demo import run_demo
+    from prepkit.pipeline.run import RunOptions
 
-    options = RunOptions(outdir=args.outdir, draws=args.draws, quiet=args.quiet,
-                         force=args.force)
+    options = RunOptions(outdir=args.outdir, draws=args.draws, force=args.force,
+                         quiet=args.quiet or in_ci(), terminal=on_terminal())
     report = run_demo(options, say=_sayer(args.quiet), command=typed_command())
     if not args.quiet:
         print(report)
@@ -293,14 +312,9 @@ def _demo(args: argparse.Namespace) -> int:
 
 
 def _watch(args: argparse.Namespace) -> int:
+    from prepkit.pipeline.first_use import first_use_note
     from prepkit.pipeline.guard import check_draws_option
-    from prepkit.pipeline.run import (
-        RunOptions,
-        check_outdir,
-        default_outdir,
-        first_use_note,
-        run_workbook,
-    )
+    from prepkit.pipeline.run import RunOptions, check_outdir, default_outdir, run_workbook
     from prepkit.pipeline.watch import watch_workbook
     from prepkit.workbook.source_file import read_file
 

@@ -21,33 +21,32 @@ be replaced, and foreign files are never replaced.
 
 from __future__ import annotations
 
-import errno
 import hashlib
 import json
 import os
 import stat
 from collections.abc import Iterator
 from dataclasses import dataclass
+from datetime import datetime
 from pathlib import Path, PurePosixPath
 
-from prepkit.errors import OutputError
+from prepkit.base.files import fsync_dir, fsync_file
 
 __all__ = [
     "DESKTOP_LITTER",
     "MANIFEST_FORMAT",
     "MANIFEST_NAME",
     "MAX_MANIFEST_BYTES",
-    "EditedFilesError",
     "Manifest",
     "ManifestEntry",
     "PackSurvey",
-    "UnexpectedFilesError",
     "file_sha256",
     "plain_pack_name",
     "read_manifest",
     "relative_files",
     "survey_pack",
     "verify_pack",
+    "write_manifest",
 ]
 
 #: File name of the manifest written last into every pack.
@@ -112,7 +111,7 @@ class Manifest:
     Parameters
     ----------
     created : str
-        ISO 8601 date of the run (from :func:`prepkit.pipeline.outputs.source_date`).
+        ISO 8601 date of the run (from :func:`prepkit.base.files.source_date`).
     files : tuple of ManifestEntry
         Every file of the pack except the manifest, sorted by name.
     """
@@ -321,69 +320,32 @@ def relative_files(root: Path) -> Iterator[str]:
             yield (rel / name).as_posix()
 
 
-def _shown(names: tuple[str, ...], limit: int) -> str:
-    shown = ", ".join(names[:limit])
-    if len(names) > limit:
-        shown += f" and {len(names) - limit} more"
-    return shown
-
-
-class UnexpectedFilesError(OutputError):
-    """The output folder holds files that prepkit did not write.
+def write_manifest(staging: Path, created: datetime) -> Manifest:
+    """Write the manifest of every file under ``staging``, and flush it all to disk.
 
     Parameters
     ----------
-    outdir : pathlib.Path
-        The output folder.
-    names : tuple of str
-        Relative paths of the files and folders not listed in its manifest.
+    staging : pathlib.Path
+        The folder of the new pack, every file written.
+    created : datetime.datetime
+        Date recorded in the manifest.
+
+    Returns
+    -------
+    Manifest
+        The manifest written (as :data:`MANIFEST_NAME` in ``staging``).
     """
-
-    #: Names shown in the message; the rest are counted.
-    SHOWN = 4
-
-    def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
-        self.outdir = outdir
-        self.names = names
-        super().__init__(
-            errno.EEXIST,
-            f"output folder {outdir}: expected an empty folder or one holding only an earlier "
-            f"prepkit pack (the whole folder is replaced), found files prepkit did not write: "
-            f"{_shown(names, self.SHOWN)}. Nothing was written; choose another output folder, "
-            "or move those files out of it",
-            str(outdir),
+    entries = []
+    for name in sorted(relative_files(staging)):
+        path = staging.joinpath(*name.split("/"))
+        fsync_file(path)
+        entries.append(
+            ManifestEntry(name=name, sha256=file_sha256(path), size=path.stat().st_size)
         )
-
-    def __str__(self) -> str:
-        # The folder is named inside the sentence already.
-        return self.strerror or super().__str__()
-
-
-class EditedFilesError(OutputError):
-    """Files of the earlier pack were changed since prepkit wrote them.
-
-    Parameters
-    ----------
-    outdir : pathlib.Path
-        The output folder.
-    names : tuple of str
-        Relative paths of the changed files.
-    """
-
-    #: Names shown in the message; the rest are counted.
-    SHOWN = 4
-
-    def __init__(self, outdir: Path, names: tuple[str, ...]) -> None:
-        self.outdir = outdir
-        self.names = names
-        super().__init__(
-            errno.EEXIST,
-            f"output folder {outdir}: expected the earlier pack's files as prepkit wrote them "
-            f"(the whole folder is replaced), found files changed since: "
-            f"{_shown(names, self.SHOWN)}. Nothing was written; move them out of the folder "
-            "to keep them, or run again with --force to replace them",
-            str(outdir),
-        )
-
-    def __str__(self) -> str:
-        return self.strerror or super().__str__()
+    manifest = Manifest(created=created.isoformat(), files=tuple(entries))
+    manifest_path = staging / MANIFEST_NAME
+    manifest_path.write_text(manifest.to_json(), encoding="utf-8", newline="\n")
+    fsync_file(manifest_path)
+    for folder, _, _ in os.walk(staging):
+        fsync_dir(Path(folder))
+    return manifest

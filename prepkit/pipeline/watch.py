@@ -16,18 +16,14 @@ import threading
 from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 
-from prepkit.errors import PrepkitError, WorkbookError
-from prepkit.pipeline.outputs import file_sha256, read_manifest
+from prepkit.errors import PrepkitError, WatchUnavailableError, WorkbookError
+from prepkit.pipeline.manifest import file_sha256, read_manifest
 
 Say = Callable[[str], None]
 
 #: Quiet time after the last change before rebuilding [milliseconds]: a
 #: spreadsheet program writes a file in several steps.
 DEBOUNCE_MS = 800
-
-
-class WatchUnavailableError(PrepkitError, RuntimeError):
-    """The optional ``watchfiles`` package is not installed."""
 
 
 def _require_watchfiles() -> None:
@@ -101,17 +97,10 @@ def watch_workbook(
             built += 1
         except WorkbookError as exc:
             say(describe_problems(exc))
-            say(f"{kept()} Fix the workbook and save it again.")
+            say(f"{_kept(outdir, built)} Fix the workbook and save it again.")
         except PrepkitError as exc:
             say(f"prepkit: {exc}")
-            say(kept())
-
-    def kept() -> str:
-        if outdir is None:
-            return "The previous pack was kept." if built else "No pack was written."
-        if read_manifest(outdir) is not None:
-            return f"The previous pack in {outdir} was kept."
-        return f"No pack was written to {outdir}."
+            say(_kept(outdir, built))
 
     attempt()
     say(f"Watching {target.name} for changes; press Ctrl-C to stop.")
@@ -130,3 +119,12 @@ def watch_workbook(
         say(f"{target.name} changed; rebuilding.")
         attempt()
     return built
+
+
+def _kept(outdir: Path | None, built: int) -> str:
+    """What a failed build left: the previous pack, or none (``built`` packs so far)."""
+    if outdir is None:
+        return "The previous pack was kept." if built else "No pack was written."
+    if read_manifest(outdir) is not None:
+        return f"The previous pack in {outdir} was kept."
+    return f"No pack was written to {outdir}."

@@ -156,7 +156,7 @@ def chart_jobs(
     """The deterministic charts as jobs: each call draws one chart.
 
     Charts are independent of each other, so a caller may run the jobs in
-    parallel (:mod:`prepkit.pipeline.run` does, in forked worker processes);
+    parallel (:mod:`prepkit.pipeline.jobs` does, in forked worker processes);
     the bytes are the same either way.
 
     Parameters

@@ -1729,7 +1729,7 @@ def provenance_line(plan: Plan, *, version: str, generated: dt.datetime) -> str:
     version : str
         prepkit version.
     generated : datetime.datetime
-        Run time (from :func:`prepkit.pipeline.outputs.source_date`).
+        Run time (from :func:`prepkit.base.files.source_date`).
 
     Returns
     -------

@@ -12,7 +12,7 @@ Two steps, kept apart so each can be tested alone:
   viewers) using only prepkit's own assets, through
   :class:`prepkit.report.safety.AssetFetcher`. Text is set in the DejaVu
   Sans files bundled with the templates. The PDF's dates come from
-  :func:`prepkit.pipeline.outputs.source_date` and its file identifier from its own
+  :func:`prepkit.base.files.source_date` and its file identifier from its own
   content, so the same HTML rendered twice under the same
   ``SOURCE_DATE_EPOCH`` gives the same bytes.
 """
@@ -30,14 +30,13 @@ import jinja2
 from weasyprint import HTML
 from weasyprint.text.fonts import FontConfiguration
 
-from prepkit.errors import OutputError, PrepkitError
-from prepkit.pipeline.outputs import source_date
+from prepkit.base.files import source_date
+from prepkit.errors import OutputError, PageSizeError
 from prepkit.report.safety import AssetFetcher, package_assets_dir
 
 __all__ = [
     "PAGE_SIZES_MM",
     "PDF_VARIANT",
-    "PageSizeError",
     "html_to_pdf",
     "make_environment",
     "render_html",
@@ -55,32 +54,6 @@ PAGE_SIZES_MM: dict[str, tuple[float, float]] = {
 
 _CSS_PX_PER_MM = 96.0 / 25.4
 _SIZE_TOLERANCE_MM = 0.5
-
-
-class PageSizeError(ValueError, PrepkitError):
-    """The laid-out pages do not have the paper size asked for.
-
-    Usually the template's ``page_size`` variable and the ``page_size``
-    given to :func:`html_to_pdf` disagree.
-
-    Parameters
-    ----------
-    expected : str
-        Paper size asked for.
-    found : tuple of float
-        Width and height of the first wrong page [mm].
-    page : int
-        Its page number, from 1.
-    """
-
-    def __init__(self, expected: str, found: tuple[float, float], page: int) -> None:
-        self.expected = expected
-        self.found = found
-        self.page = page
-        super().__init__(
-            f"page {page}: expected {expected} paper, found "
-            f"{found[0]:.1f} x {found[1]:.1f} mm (does the template's page_size match?)"
-        )
 
 
 def templates_dir() -> Path:
@@ -177,7 +150,7 @@ def html_to_pdf(
         afterwards. Defaults to a new :class:`AssetFetcher`.
     created : datetime.datetime, optional
         Creation and modification date stored in the PDF. Defaults to
-        :func:`prepkit.pipeline.outputs.source_date`.
+        :func:`prepkit.base.files.source_date`.
 
     Returns
     -------

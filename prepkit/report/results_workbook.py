@@ -31,7 +31,7 @@ frozen panes, Excel table). Text that came from the planning workbook is
 written with :func:`prepkit.report.safety.write_text_cell`, so a label such
 as ``=HYPERLINK(...)`` stays text. The file is byte-reproducible: the
 document dates come from the run time and the zip entries get a fixed time
-stamp (:func:`prepkit.pipeline.outputs.normalise_xlsx`).
+stamp (:func:`prepkit.base.files.normalise_xlsx`).
 """
 
 from __future__ import annotations
@@ -45,7 +45,7 @@ from openpyxl import Workbook
 from openpyxl.styles import Alignment
 from openpyxl.worksheet.worksheet import Worksheet
 
-from prepkit.pipeline.outputs import normalise_xlsx
+from prepkit.base.files import normalise_xlsx
 from prepkit.plan import LEVELS, Plan
 from prepkit.report import context as words
 from prepkit.report import results_workbook_columns_scenarios as cols

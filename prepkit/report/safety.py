@@ -41,14 +41,14 @@ from prepkit.base.sheet_text import (
     write_text_cell,
     write_text_row,
 )
-from prepkit.errors import PrepkitError
+from prepkit.errors import FetchRefusedError
+from prepkit.errors import shorten_data_uri as _shorten
 
 __all__ = [
     "ALLOWED_ASSET_SUFFIXES",
     "ALLOWED_DATA_MEDIA_TYPES",
     "FORMULA_TRIGGERS",
     "AssetFetcher",
-    "FetchRefusedError",
     "Refusal",
     "looks_like_formula",
     "package_assets_dir",
@@ -74,27 +74,6 @@ ALLOWED_ASSET_SUFFIXES: dict[str, str] = {
     ".svg": "image/svg+xml",
 }
 
-
-
-class FetchRefusedError(PermissionError, PrepkitError):
-    """A URL was refused by :class:`AssetFetcher`.
-
-    weasyprint catches the error, logs a warning and leaves the resource
-    out (an image shows its alt text; a stylesheet or font is skipped), so a
-    refused URL never stops a render.
-
-    Parameters
-    ----------
-    url : str
-        The URL as weasyprint asked for it.
-    reason : str
-        Why it was refused, in plain words.
-    """
-
-    def __init__(self, url: str, reason: str) -> None:
-        self.url = url
-        self.reason = reason
-        super().__init__(f"refused to fetch {_shorten(url)!r}: {reason}")
 
 
 @dataclass(frozen=True)
@@ -246,10 +225,3 @@ def _decode_data_uri(url: str) -> tuple[str, bytes]:
         except (binascii.Error, ValueError):
             raise FetchRefusedError(url, "data URI is not valid base64") from None
     return media_type, raw
-
-
-def _shorten(url: str, limit: int = 80) -> str:
-    """``data:`` URIs cut to ``limit`` characters (they can be megabytes)."""
-    if not url.startswith("data:") or len(url) <= limit:
-        return url
-    return url[: limit - 3] + "..."

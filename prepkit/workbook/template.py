@@ -36,9 +36,9 @@ from openpyxl.worksheet.table import TableStyleInfo
 from openpyxl.worksheet.worksheet import Worksheet
 
 from prepkit import __version__
+from prepkit.base.files import normalise_xlsx, source_date
 from prepkit.base.sheet_text import mark_text_cell, safe_cell_text
 from prepkit.errors import OutputError
-from prepkit.pipeline.outputs import normalise_xlsx, source_date
 from prepkit.plan import Intervention, Level, Plan, Range3
 from prepkit.workbook import schema
 from prepkit.workbook.cells import EARLIEST_DATE, LATEST_DATE, normalise_key

@@ -61,8 +61,7 @@ def test_watch_stopped_with_ctrl_c_exits_0(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     from prepkit.cli.main import main
-    from prepkit.pipeline import run as pipeline
-    from prepkit.pipeline import watch
+    from prepkit.pipeline import first_use, watch
 
     seen: dict[str, object] = {}
 
@@ -71,11 +70,11 @@ def test_watch_stopped_with_ctrl_c_exits_0(
         raise KeyboardInterrupt
 
     monkeypatch.setattr(watch, "watch_workbook", watch_workbook)
-    monkeypatch.setattr(pipeline, "kernels_need_compiling", lambda: True)
+    monkeypatch.setattr(first_use, "kernels_need_compiling", lambda: True)
     book = tmp_path / "plan.xlsx"
     book.write_bytes(SAMPLE.read_bytes())
     assert main(["watch", str(book)]) == 0
     out, err = capsys.readouterr()
     assert seen["outdir"] == tmp_path / "plan-pack"  # the default folder, named to the watcher
     assert out.strip() == "Stopped watching plan.xlsx."
-    assert err.strip() == pipeline.FIRST_USE_NOTE  # said once, before the first build
+    assert err.strip() == first_use.FIRST_USE_NOTE  # said once, before the first build

@@ -10,8 +10,10 @@ from typing import Any
 
 import pytest
 
+from prepkit import errors
 from prepkit.cli import main as cli
 from prepkit.cli.main import main
+from prepkit.pipeline import demo, first_use
 from prepkit.pipeline import run as pipeline
 
 
@@ -22,7 +24,7 @@ class _Stop(Exception):
 def _messages_before_the_model(plan_path: Path, monkeypatch: pytest.MonkeyPatch,
                                compiling: bool) -> list[str]:
     monkeypatch.delenv("CI", raising=False)
-    monkeypatch.setattr(pipeline, "kernels_need_compiling", lambda: compiling)
+    monkeypatch.setattr(first_use, "kernels_need_compiling", lambda: compiling)
 
     def run_plan(_plan: Any) -> Any:
         raise _Stop
@@ -56,10 +58,10 @@ def test_later_runs_say_nothing_about_compiling(plan_path: Path,
 def test_an_empty_numba_cache_means_compiling(tmp_path: Path) -> None:
     # A fresh process with its own empty cache folder: nothing is compiled, only looked up.
     env = {**os.environ, "NUMBA_CACHE_DIR": str(tmp_path / "numba-cache")}
-    code = "from prepkit.pipeline.run import first_use_note as n; print(n())"
+    code = "from prepkit.pipeline.first_use import first_use_note as n; print(n())"
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           env=env, timeout=120, check=True)
-    assert done.stdout.strip() == pipeline.FIRST_USE_NOTE
+    assert done.stdout.strip() == first_use.FIRST_USE_NOTE
     assert not (tmp_path / "numba-cache").exists() or not any(
         (tmp_path / "numba-cache").rglob("*.nbi"))
 
@@ -71,8 +73,8 @@ def test_compiled_kernels_mean_no_note(plan_path: Path) -> None:
 
     plan = read_plan(plan_path)
     run_uncertainty(plan, run_plan(plan), progress=False)  # every kernel has run in this process
-    assert pipeline.kernels_need_compiling() is False
-    assert pipeline.first_use_note() is None
+    assert first_use.kernels_need_compiling() is False
+    assert first_use.first_use_note() is None
 
 
 # ---- The demo's hint ----------------------------------------------------------------------------
@@ -81,13 +83,13 @@ def test_compiled_kernels_mean_no_note(plan_path: Path) -> None:
 @pytest.fixture
 def quick_demo(monkeypatch: pytest.MonkeyPatch) -> None:
     """run_demo without the run itself: only its closing hint is under test."""
-    monkeypatch.setattr(pipeline, "_run", lambda *_a, **_k: "report")
+    monkeypatch.setattr(demo, "run_to_pack", lambda *_a, **_k: "report")
 
 
 @pytest.mark.usefixtures("quick_demo")
 def test_demo_hint_names_a_real_new_folder_and_the_typed_command(tmp_path: Path) -> None:
     outdir = tmp_path / "demo"
-    text = pipeline.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None,
+    text = demo.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None,
                              command=".venv/bin/prepkit")
     assert text.splitlines()[1:] == [
         f"Try it: change a figure in {outdir / 'vellmora_city.xlsx'}, save it, then run",
@@ -95,7 +97,7 @@ def test_demo_hint_names_a_real_new_folder_and_the_typed_command(tmp_path: Path)
     ]
     (tmp_path / "demo-2").mkdir()
     (tmp_path / "demo-3").write_text("taken")
-    text = pipeline.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None)
+    text = demo.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None)
     assert text.endswith(f" -o {tmp_path / 'demo-4'}")
     assert "<" not in text
 
@@ -103,7 +105,7 @@ def test_demo_hint_names_a_real_new_folder_and_the_typed_command(tmp_path: Path)
 @pytest.mark.usefixtures("quick_demo")
 def test_demo_hint_quotes_paths_for_the_shell(tmp_path: Path) -> None:
     outdir = tmp_path / "my demo"
-    text = pipeline.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None)
+    text = demo.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None)
     assert f"run '{outdir / 'vellmora_city.xlsx'}' -o '{tmp_path / 'my demo-2'}'" in text
 
 
@@ -112,11 +114,11 @@ def test_an_edited_demo_copy_is_kept_with_a_command_that_runs_it(tmp_path: Path)
 
     outdir = tmp_path / "demo"
     with AtomicOutputDir(outdir) as out:
-        out.write_bytes(pipeline.DEMO_WORKBOOK, b"as the demo wrote it")
-    copy = outdir / pipeline.DEMO_WORKBOOK
+        out.write_bytes(demo.DEMO_WORKBOOK, b"as the demo wrote it")
+    copy = outdir / demo.DEMO_WORKBOOK
     copy.write_bytes(b"the planner's edit")
-    with pytest.raises(pipeline.PipelineError) as info:
-        pipeline.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None, command="prepkit")
+    with pytest.raises(errors.PipelineError) as info:
+        demo.run_demo(pipeline.RunOptions(outdir=outdir), lambda _m: None, command="prepkit")
     assert f"run it with 'prepkit run {copy} -o {tmp_path / 'demo-2'}'" in str(info.value)
     assert copy.read_bytes() == b"the planner's edit"
 

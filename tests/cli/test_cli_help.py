@@ -9,7 +9,7 @@ import pytest
 
 from prepkit.cli import main as cli
 from prepkit.cli.main import main
-from prepkit.pipeline import run as pipeline
+from prepkit.pipeline import demo
 
 COMMANDS = ("template", "check", "run", "watch", "demo")
 
@@ -51,8 +51,8 @@ def test_every_argument_says_what_it_means_and_its_default(command: str) -> None
 
 
 def test_demo_help_names_its_default_folder(capsys: pytest.CaptureFixture[str]) -> None:
-    assert cli.DEMO_OUTDIR == pipeline.DEMO_OUTDIR
-    assert f"(default: {pipeline.DEMO_OUTDIR} in the current folder)" in " ".join(
+    assert cli.DEMO_OUTDIR == demo.DEMO_OUTDIR
+    assert f"(default: {demo.DEMO_OUTDIR} in the current folder)" in " ".join(
         _help(capsys, "demo").split())
 
 

@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 
 from prepkit.cli import main as cli
-from prepkit.pipeline import run as pipeline
+from prepkit.pipeline import demo
 
 ROOT = Path(__file__).parents[2]
 ACTIVATE = ". .venv/bin/activate"
@@ -41,7 +41,7 @@ def test_every_prepkit_line_is_accepted_by_the_command_line() -> None:
     for line in everyday_commands()[1:]:
         words = shlex.split(line)
         if words[0] == "cp":
-            assert words[1] == f"{pipeline.DEMO_OUTDIR}/{pipeline.DEMO_WORKBOOK}", line
+            assert words[1] == f"{demo.DEMO_OUTDIR}/{demo.DEMO_WORKBOOK}", line
             continue
         assert words[0] == "prepkit", line
         args = parser.parse_args(words[1:])  # exits (and fails the test) on a wrong option

@@ -15,22 +15,12 @@ from pathlib import Path
 
 import pytest
 
-from prepkit.errors import OutputError, PrepkitError
+from prepkit.base.files import atomic_write_bytes, atomic_write_with, source_date
+from prepkit.errors import OutputError, PrepkitError, SourceDateError, UnexpectedFilesError
 from prepkit.pipeline import outputs
-from prepkit.pipeline.outputs import (
-    MANIFEST_NAME,
-    AtomicOutputDir,
-    SourceDateError,
-    UnexpectedFilesError,
-    atomic_write_bytes,
-    atomic_write_with,
-    check_output_dir,
-    file_sha256,
-    read_manifest,
-    recover_output_dir,
-    source_date,
-    verify_pack,
-)
+from prepkit.pipeline.manifest import MANIFEST_NAME, file_sha256, read_manifest, verify_pack
+from prepkit.pipeline.outputs import AtomicOutputDir
+from prepkit.pipeline.pack_folder import check_output_dir, exchange_paths, recover_output_dir
 
 FIRST_PACK = {
     "pack.pdf": b"%PDF first",
@@ -62,7 +52,7 @@ def _leftovers(parent: Path) -> list[str]:
 def swap_mode(request: pytest.FixtureRequest, monkeypatch: pytest.MonkeyPatch) -> str:
     """Run a test with the Linux atomic exchange and with the portable fallback."""
     if request.param == "two-renames":
-        monkeypatch.setattr(outputs, "_exchange_paths", lambda first, second: False)
+        monkeypatch.setattr(outputs, "exchange_paths", lambda first, second: False)
     return str(request.param)
 
 
@@ -291,7 +281,7 @@ def test_failed_second_rename_puts_the_previous_pack_back(
 ) -> None:
     outdir = tmp_path / "pack"
     _write_pack(outdir, FIRST_PACK)
-    monkeypatch.setattr(outputs, "_exchange_paths", lambda first, second: False)
+    monkeypatch.setattr(outputs, "exchange_paths", lambda first, second: False)
     real_rename = os.rename
 
     def rename(src: str | os.PathLike[str], dst: str | os.PathLike[str]) -> None:
@@ -311,15 +301,15 @@ def test_interrupt_between_the_two_renames_puts_the_pack_back(
 ) -> None:
     outdir = tmp_path / "pack"
     _write_pack(outdir, FIRST_PACK)
-    monkeypatch.setattr(outputs, "_exchange_paths", lambda first, second: False)
-    real_fsync_dir = outputs._fsync_dir
+    monkeypatch.setattr(outputs, "exchange_paths", lambda first, second: False)
+    real_fsync_dir = outputs.fsync_dir
 
     def fsync_dir(path: Path) -> None:
         if not outdir.exists():  # the previous pack has just been moved aside
             raise KeyboardInterrupt
         real_fsync_dir(path)
 
-    monkeypatch.setattr(outputs, "_fsync_dir", fsync_dir)
+    monkeypatch.setattr(outputs, "fsync_dir", fsync_dir)
     with pytest.raises(KeyboardInterrupt):
         _write_pack(outdir, SECOND_PACK)
     assert _contents(outdir) == FIRST_PACK
@@ -332,7 +322,7 @@ _WRITER = textwrap.dedent(
     from prepkit.pipeline import outputs
     from prepkit.pipeline.outputs import AtomicOutputDir
     if sys.argv[2] == "two-renames":
-        outputs._exchange_paths = lambda first, second: False
+        outputs.exchange_paths = lambda first, second: False
     with AtomicOutputDir(sys.argv[1], pause=float(sys.argv[3])) as out:
         for index in range(6):
             out.write_bytes(f"part{index}.bin", bytes([index]) * 300_000)
@@ -444,7 +434,7 @@ def test_linux_exchange_swaps_two_folders(tmp_path: Path) -> None:
     second.mkdir()
     (first / "one").write_text("1")
     (second / "two").write_text("2")
-    if not outputs._exchange_paths(first, second):
+    if not exchange_paths(first, second):
         pytest.skip("this file system does not support RENAME_EXCHANGE")
     assert [p.name for p in first.iterdir()] == ["two"]
     assert [p.name for p in second.iterdir()] == ["one"]
@@ -519,7 +509,7 @@ def test_sigkill_during_a_single_file_write(tmp_path: Path) -> None:
     script = textwrap.dedent(
         """
         import sys, time
-        from prepkit.pipeline.outputs import atomic_write_with
+        from prepkit.base.files import atomic_write_with
         def slow(path):
             with open(path, "wb") as handle:
                 handle.write(b"half of the new")

@@ -33,9 +33,16 @@ from conftest import Editor, small_plan
 from pypdf import PdfReader
 from pypdf.generic import ArrayObject, DictionaryObject
 
+from prepkit import errors
+from prepkit.cli.env import in_ci
 from prepkit.cli.main import main
+from prepkit.errors import InputChangedError
+from prepkit.pipeline import demo, progress
+from prepkit.pipeline import jobs as pipeline_jobs
+from prepkit.pipeline import pack as pipeline_pack
 from prepkit.pipeline import run as pipeline
-from prepkit.pipeline.outputs import MANIFEST_NAME, PAUSE_ENV, read_manifest, verify_pack
+from prepkit.pipeline.manifest import MANIFEST_NAME, read_manifest, verify_pack
+from prepkit.pipeline.outputs import PAUSE_ENV
 from prepkit.report import context as words
 from prepkit.scenarios.runs import run_plan
 from prepkit.workbook.reader import read_plan
@@ -92,12 +99,12 @@ def vellmora(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Rendered]:
     """The city pack, made by ``run_demo`` with a small ensemble (A4)."""
     outdir = tmp_path_factory.mktemp("vellmora") / "demo"
     messages: list[str] = []
-    source = pipeline.sample_workbook()
+    source = demo.sample_workbook()
     before = sha(source)
     with pytest.MonkeyPatch.context() as mp:
         mp.setenv("SOURCE_DATE_EPOCH", EPOCH)
         mp.delenv("CI", raising=False)
-        report = pipeline.run_demo(
+        report = demo.run_demo(
             pipeline.RunOptions(outdir=outdir, draws=ENSEMBLE_DRAWS), messages.append
         )
     yield _rendered(source, outdir, report, messages, before)
@@ -113,9 +120,8 @@ def tamsett(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Rendered]:
     messages: list[str] = []
     with pytest.MonkeyPatch.context() as mp:
         mp.setenv("SOURCE_DATE_EPOCH", EPOCH)
-        mp.setenv("CI", "true")
         report = pipeline.run_workbook(
-            workbook, pipeline.RunOptions(outdir=None, draws=0,
+            workbook, pipeline.RunOptions(outdir=None, draws=0, quiet=True,
                                           summary_json=folder / "out" / "summary.json"),
             messages.append,
         )
@@ -149,9 +155,9 @@ def test_pack_holds_every_file_and_its_manifest(pack: Rendered) -> None:
 
 
 def test_demo_copies_its_workbook_and_runs_the_ensemble(vellmora: Rendered) -> None:
-    copy = vellmora.outdir / pipeline.DEMO_WORKBOOK
+    copy = vellmora.outdir / demo.DEMO_WORKBOOK
     assert copy.read_bytes() == vellmora.workbook.read_bytes()
-    assert (vellmora.outdir / pipeline.UNCERTAINTY_CSV).is_file()
+    assert (vellmora.outdir / pipeline_pack.UNCERTAINTY_CSV).is_file()
     manifest = read_manifest(vellmora.outdir)
     assert manifest is not None
     assert "charts/uncertainty-tornado.png" in {e.name for e in manifest.files}
@@ -181,7 +187,7 @@ def test_closing_report_and_progress_messages(vellmora: Rendered, tamsett: Rende
     assert str(vellmora.outdir) in vellmora.report
     assert "Bottom line: " + " ".join(words.bottom_line(vellmora.views)) in vellmora.report
     assert any("Drawing the charts" in m for m in vellmora.messages)
-    assert tamsett.messages == []  # CI was set
+    assert tamsett.messages == []  # quiet, as the command line runs under CI
 
 
 # ---- What the PDF says --------------------------------------------------------------------------
@@ -347,17 +353,17 @@ def test_rendering_twice_gives_identical_bytes(tamsett: Rendered, monkeypatch: p
         read_plan(tamsett.workbook),
         details=dataclasses.replace(tamsett.plan.details, draws=0),
     )
-    again = pipeline.render_pack(plan, run_plan(plan))
+    again = pipeline_pack.render_pack(plan, run_plan(plan))
     for name, data in again.files.items():
         assert (tamsett.outdir / name).read_bytes() == data, name
 
 
 def test_parallel_and_serial_jobs_agree() -> None:
     jobs = [lambda k=k: bytes([k]) * 1000 for k in range(5)]
-    assert pipeline.run_jobs(jobs, workers=2) == pipeline.run_jobs(jobs, workers=1)
+    assert pipeline_jobs.run_jobs(jobs, workers=2) == pipeline_jobs.run_jobs(jobs, workers=1)
     # A result that cannot travel back from a worker: the jobs run here instead.
     odd = [lambda: (lambda: 1), lambda: 2]
-    got = pipeline.run_jobs(odd, workers=2)
+    got = pipeline_jobs.run_jobs(odd, workers=2)
     assert got[1] == 2 and callable(got[0])
 
 
@@ -527,7 +533,7 @@ def test_missing_workbook_and_bad_draws_are_input_problems(
 
 
 def test_outdir_holding_the_workbook_is_refused(plan_path: Path) -> None:
-    with pytest.raises(pipeline.PipelineError, match="output folder"):
+    with pytest.raises(errors.PipelineError, match="output folder"):
         pipeline.run_workbook(plan_path, pipeline.RunOptions(outdir=plan_path.parent, quiet=True),
                               lambda _m: None)
 
@@ -539,7 +545,7 @@ def test_workbook_changed_during_the_run_fails_and_writes_nothing(
     workbook = tmp_path / "short.xlsx"
     write_workbook(workbook, dataclasses.replace(
         plan, details=dataclasses.replace(plan.details, draws=0, horizon_days=60)))
-    real = pipeline.render_pack
+    real = pipeline_pack.render_pack
 
     def render_then_edit(*args: Any, **kwargs: Any) -> Any:
         out = real(*args, **kwargs)
@@ -549,7 +555,7 @@ def test_workbook_changed_during_the_run_fails_and_writes_nothing(
 
     monkeypatch.setattr(pipeline, "render_pack", render_then_edit)
     outdir = tmp_path / "pack"
-    with pytest.raises(pipeline.InputChangedError, match="changed while prepkit was running"):
+    with pytest.raises(InputChangedError, match="changed while prepkit was running"):
         pipeline.run_workbook(workbook, pipeline.RunOptions(outdir=outdir, quiet=True),
                               lambda _m: None)
     assert not outdir.exists()
@@ -575,21 +581,25 @@ def test_demo_never_replaces_an_edited_copy_of_its_workbook(vellmora: Rendered, 
                                                             ) -> None:
     outdir = tmp_path / "demo"
     shutil.copytree(vellmora.outdir, outdir)
-    with open(outdir / pipeline.DEMO_WORKBOOK, "ab") as handle:
+    with open(outdir / demo.DEMO_WORKBOOK, "ab") as handle:
         handle.write(b"planner's edit")
-    edited = (outdir / pipeline.DEMO_WORKBOOK).read_bytes()
-    with pytest.raises(pipeline.PipelineError, match="edited"):
-        pipeline.run_demo(pipeline.RunOptions(outdir=outdir, draws=0, quiet=True), lambda _m: None)
-    assert (outdir / pipeline.DEMO_WORKBOOK).read_bytes() == edited
+    edited = (outdir / demo.DEMO_WORKBOOK).read_bytes()
+    with pytest.raises(errors.PipelineError, match="edited"):
+        demo.run_demo(pipeline.RunOptions(outdir=outdir, draws=0, quiet=True), lambda _m: None)
+    assert (outdir / demo.DEMO_WORKBOOK).read_bytes() == edited
 
 
 def test_steps_are_silent_when_quiet_or_in_ci(monkeypatch: pytest.MonkeyPatch) -> None:
     said: list[str] = []
     monkeypatch.delenv("CI", raising=False)
-    pipeline._Steps(said.append, quiet=False)("one")
-    pipeline._Steps(said.append, quiet=True)("two")
+    progress.Steps(said.append, quiet=False)("one")
+    progress.Steps(said.append, quiet=True)("two")
+    assert not in_ci()
     monkeypatch.setenv("CI", "true")
-    pipeline._Steps(said.append, quiet=False)("three")
+    assert in_ci()  # the command line then runs quiet
     monkeypatch.setenv("CI", "false")
-    pipeline._Steps(said.append, quiet=False)("four")
-    assert said == ["one", "four"]
+    assert not in_ci()
+    assert said == ["one"]
+    assert not progress.Steps(said.append, quiet=False).interactive  # no terminal given
+    assert progress.Steps(said.append, quiet=False, terminal=True).interactive
+    assert not progress.Steps(said.append, quiet=True, terminal=True).interactive

@@ -18,12 +18,14 @@ from typing import Any
 import pytest
 from conftest import small_plan
 
+from prepkit.base.files import atomic_write_bytes
 from prepkit.cli import env as cli_env
 from prepkit.cli.main import main
 from prepkit.errors import OutputError
 from prepkit.pipeline import outputs
 from prepkit.pipeline import run as pipeline
-from prepkit.pipeline.outputs import AtomicOutputDir, atomic_write_bytes, verify_pack
+from prepkit.pipeline.manifest import verify_pack
+from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.plan import Plan
 from prepkit.workbook.template import write_workbook
 

@@ -20,20 +20,15 @@ from typing import Any
 import pytest
 from conftest import small_plan
 
+from prepkit import errors
 from prepkit.cli.main import main
-from prepkit.errors import PipelineError
+from prepkit.errors import EditedFilesError, PipelineError, UnexpectedFilesError
 from prepkit.pipeline import run as pipeline
 from prepkit.pipeline import watch
-from prepkit.pipeline.outputs import (
-    MANIFEST_NAME,
-    AtomicOutputDir,
-    EditedFilesError,
-    UnexpectedFilesError,
-    check_output_dir,
-    file_sha256,
-    verify_pack,
-)
+from prepkit.pipeline.manifest import MANIFEST_NAME, file_sha256, verify_pack
+from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.pipeline.outputs_guard import check_summary_path, is_inside, same_file
+from prepkit.pipeline.pack_folder import check_output_dir
 from prepkit.workbook.template import write_workbook
 
 OLD_PACK = {"briefing-pack.pdf": b"%PDF old", "results.xlsx": b"PK old",
@@ -354,4 +349,4 @@ def test_replace_edited_is_the_only_way_an_edited_file_goes(tmp_path: Path) -> N
 
 
 def test_pipeline_error_is_the_one_the_pipeline_exports() -> None:
-    assert pipeline.PipelineError is PipelineError
+    assert errors.PipelineError is PipelineError

@@ -20,7 +20,7 @@ from typing import Any
 import pytest
 from conftest import small_plan
 
-from prepkit.pipeline import run as pipeline
+from prepkit.pipeline import jobs
 from prepkit.plan import Plan
 from prepkit.workbook.template import write_workbook
 
@@ -68,7 +68,7 @@ def _alive(pid: int) -> bool:
 def rendering_run(tmp_path: Path) -> Iterator[tuple[subprocess.Popen[str], list[int]]]:
     """A run started in its own session, caught while its worker processes draw charts."""
     workbook = _workbook(tmp_path)
-    env = {**os.environ, pipeline.WORKERS_ENV: "2"}
+    env = {**os.environ, jobs.WORKERS_ENV: "2"}
     env.pop("CI", None)
     process = subprocess.Popen([sys.executable, "-c", ENTRY, "run", str(workbook), "-o",
                                 str(tmp_path / "pack"), "-q"], env=env, text=True,
@@ -130,14 +130,14 @@ def test_ctrl_c_while_workers_draw_is_one_line_and_no_worker_traceback(
 
 LONG_JOBS = """
 import sys, time
-from prepkit.pipeline import run as pipeline
+from prepkit.pipeline import jobs
 
 def job():
     time.sleep(60)
     print("a worker outlived its run", file=sys.stderr, flush=True)
     return 1
 
-pipeline.run_jobs([job, job], workers=2)
+jobs.run_jobs([job, job], workers=2)
 """
 
 
@@ -173,7 +173,13 @@ def test_workers_are_told_to_end_with_their_parent(monkeypatch: pytest.MonkeyPat
             asked.append(options)
             raise OSError("no processes here")  # run_jobs then runs the jobs itself
 
-    monkeypatch.setattr(pipeline.multiprocessing, "get_context", lambda _method: NoPool())
-    assert pipeline.run_jobs([lambda: 1, lambda: 2], workers=2) == [1, 2]
-    assert asked[0]["initializer"] is pipeline.worker_setup
-    assert asked[0]["initargs"] == (os.getpid(),)
+    monkeypatch.setattr(jobs.multiprocessing, "get_context", lambda _method: NoPool())
+    assert jobs.run_jobs([lambda: 1, lambda: 2], workers=2) == [1, 2]
+    # Each worker starts with worker_setup(parent), then keeps the jobs it was forked with.
+    assert asked[0]["initializer"] is jobs._start_worker
+    assert asked[0]["initargs"][0] == os.getpid()
+    started: list[int] = []
+    monkeypatch.setattr(jobs, "worker_setup", started.append)
+    monkeypatch.setattr(jobs, "_WORKER_JOBS", [])
+    jobs._start_worker(12345, [lambda: 3])
+    assert started == [12345] and jobs._run_job(0) == 3

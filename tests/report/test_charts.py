@@ -19,7 +19,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 from matplotlib.text import Text
 
-from prepkit.pipeline.run import sample_workbook
+from prepkit.pipeline.demo import sample_workbook
 from prepkit.report import charts, charts_base
 from prepkit.report import context as words
 from prepkit.report.safety import AssetFetcher

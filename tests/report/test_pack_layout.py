@@ -35,7 +35,8 @@ import pytest
 from pypdf import PdfReader
 from pypdf.generic import ContentStream
 
-from prepkit.pipeline.run import render_pack, sample_workbook
+from prepkit.pipeline.demo import sample_workbook
+from prepkit.pipeline.pack import render_pack
 from prepkit.report.charts_base import TEXT_BLOCK_HEIGHTS_IN, chart_height
 from prepkit.report.render import templates_dir
 from prepkit.scenarios.runs import run_plan

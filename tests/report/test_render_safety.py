@@ -26,9 +26,9 @@ import openpyxl
 import pytest
 from pypdf import PdfReader
 
+from prepkit.errors import FetchRefusedError, PageSizeError
 from prepkit.report import style
 from prepkit.report.render import (
-    PageSizeError,
     html_to_pdf,
     make_environment,
     render_html,
@@ -36,7 +36,6 @@ from prepkit.report.render import (
 )
 from prepkit.report.safety import (
     AssetFetcher,
-    FetchRefusedError,
     looks_like_formula,
     safe_cell_text,
     safe_csv_text,

@@ -13,7 +13,7 @@ import pytest
 from test_uncertainty import uncertain_plan, with_draws  # noqa: F401  (fixture)
 
 from prepkit.cli.main import main
-from prepkit.pipeline import run as pipeline
+from prepkit.pipeline import ensemble
 from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.run import UncertaintyResults, run_uncertainty
 
@@ -56,7 +56,7 @@ def test_unreachable_scheduler_is_an_input_error(capsys: pytest.CaptureFixture[s
                                                  tmp_path: Path,
                                                  monkeypatch: pytest.MonkeyPatch) -> None:
     pytest.importorskip("dask.distributed")
-    monkeypatch.setattr(pipeline, "CLUSTER_TIMEOUT_SECONDS", 1)
+    monkeypatch.setattr(ensemble, "CLUSTER_TIMEOUT_SECONDS", 1)
     workbook = Path(__file__).parents[2] / "sample_workbooks" / "tamsett_hollow.xlsx"
     code = main(["run", str(workbook), "-o", str(tmp_path / "pack"), "-q", "--draws", "4",
                  "--scheduler", "tcp://127.0.0.1:9"])

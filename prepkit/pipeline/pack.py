@@ -1,0 +1,286 @@
+"""Every file of a briefing pack, made in memory, then written into its folder at once.
+
+:func:`render_pack` draws the charts, writes the words and renders the HTML
+and the tagged PDF, the results workbook, the CSV files and the JSON summary;
+:func:`write_pack` puts them into the output folder
+(:class:`~prepkit.pipeline.outputs.AtomicOutputDir`).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import re
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+import markupsafe
+
+from prepkit import __version__
+from prepkit.base.files import source_date
+from prepkit.pipeline.ensemble import ensemble_summary
+from prepkit.pipeline.jobs import run_jobs
+from prepkit.pipeline.manifest import MANIFEST_NAME
+from prepkit.pipeline.outputs import AtomicOutputDir
+from prepkit.pipeline.progress import Say
+from prepkit.pipeline.summary import summary_dict
+from prepkit.plan import Plan
+from prepkit.report import context as words
+from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
+from prepkit.report.render import html_to_pdf, render_html, templates_dir
+from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
+from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv
+from prepkit.scenarios.runs import PlanResults
+from prepkit.uncertainty.run import UncertaintyResults
+
+__all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "summary_bytes", "write_pack"]
+
+#: File of the daily uncertainty bands (only when the ensemble ran).
+UNCERTAINTY_CSV = "uncertainty-daily.csv"
+
+#: Default output folder of ``prepkit demo``.
+DEMO_OUTDIR = Path("prepkit-demo")
+
+#: Files of every pack and what each holds (charts are added per chart).
+PACK_FILES: tuple[tuple[str, str], ...] = (
+    ("briefing-pack.pdf", "This briefing pack, for printing (tagged, accessible PDF)."),
+    ("briefing-pack.html", "The same pack as one web page, charts included."),
+    ("results.xlsx", "Results workbook: summary, daily series, Excel charts, every input."),
+    ("daily-series.csv", "Every daily series of every scenario, with and without measures."),
+    ("daily-series-columns.csv", "Unit and meaning of each column of daily-series.csv."),
+    ("summary.json", "Every metric of every scenario and variant, for other software."),
+    ("charts/*.svg, charts/*.png", "Each chart as a drawing (SVG) and a picture for slides (PNG)."),
+    (MANIFEST_NAME, "Name, size and SHA-256 of every file, to check the pack is whole."),
+)
+
+
+@dataclass(frozen=True, kw_only=True)
+class Pack:
+    """Every file of a briefing pack, in memory.
+
+    Parameters
+    ----------
+    files : mapping of str to bytes
+        File name inside the pack (``/`` separators) to its bytes.
+    charts : tuple of Chart
+        The charts drawn.
+    title : str
+        Title of the pack.
+    """
+
+    files: Mapping[str, bytes]
+    charts: tuple[Chart, ...]
+    title: str
+
+
+_FONT_FACE = re.compile(r"@font-face\s*\{[^}]*\}\s*", re.DOTALL)
+
+
+def _standalone_css() -> str:
+    """pack.css for the HTML file: the same rules, without the bundled fonts.
+
+    The HTML file travels alone, so it cannot point at font files; readers'
+    browsers fall back to their own sans-serif.
+    """
+    css = (templates_dir() / "pack.css").read_text(encoding="utf-8")
+    return _FONT_FACE.sub("", css)
+
+
+def summary_bytes(
+    plan: Plan,
+    results: PlanResults,
+    ensemble_summary: dict[str, Any] | None,
+    generated: dt.datetime,
+) -> bytes:
+    """``summary.json``: every metric, the run's details and the ensemble's summary."""
+    payload = summary_dict(plan, results)
+    payload["run"] = {
+        "prepkit_version": __version__,
+        "generated": generated.astimezone(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "input_file": Path(plan.source.path).name if plan.source.path else "",
+        "input_sha256": plan.source.sha256,
+        "seed": plan.details.seed,
+        "draws": plan.details.draws,
+    }
+    if ensemble_summary is not None:
+        payload["uncertainty"] = ensemble_summary
+    return (json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()
+
+
+def _figures(
+    views: Sequence[words.ScenarioView], charts: Sequence[Chart], fmt: Literal["svg", "png"]
+) -> words.PackFigures:
+    by_name = {chart.name: chart for chart in charts}
+    number = 0
+
+    def view_of(chart: Chart) -> words.FigureView:
+        nonlocal number
+        number += 1
+        return words.FigureView(
+            name=chart.name, src=chart.data_uri(fmt), alt=chart.alt, caption=chart.caption,
+            label=f"Figure {number}.",
+        )
+
+    by_scenario = {}
+    for view in views:
+        chart = by_name.get(f"demand-scenario-{view.number}")
+        if chart is not None:
+            by_scenario[view.number] = view_of(chart)
+    across = tuple(
+        view_of(chart)
+        for chart in charts
+        if not chart.name.startswith(("demand-scenario-", "uncertainty-"))
+    )
+    uncertainty = tuple(view_of(chart) for chart in charts if chart.name.startswith("uncertainty-"))
+    return words.PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
+
+
+def render_pack(
+    plan: Plan,
+    results: PlanResults,
+    *,
+    ensemble: UncertaintyResults | None = None,
+    generated: dt.datetime | None = None,
+    extra_files: Sequence[tuple[str, str]] = (),
+    notes: Sequence[str] = (),
+    say: Say | None = None,
+) -> Pack:
+    """Make every file of the briefing pack in memory.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan that was run.
+    results : PlanResults
+        Its results (:func:`prepkit.scenarios.runs.run_plan`).
+    ensemble : object, optional
+        Uncertainty results, when the ensemble was run.
+    generated : datetime.datetime, optional
+        Run time printed in the pack; defaults to
+        :func:`prepkit.base.files.source_date`.
+    extra_files : sequence of (str, str)
+        Further files the caller adds to the pack, listed in the provenance
+        appendix with what they hold.
+    notes : sequence of str
+        Warnings found reading the workbook, listed in the provenance
+        appendix.
+    say : callable, optional
+        Receives a message before each slow step.
+
+    Returns
+    -------
+    Pack
+        File name to bytes, and the charts.
+    """
+    tell = say or (lambda _message: None)
+    when = generated or source_date()
+    views = words.scenario_views(plan, results)
+    tell("Drawing the charts")
+    ensemble_words = words.ensemble_context(plan, views, ensemble)
+    jobs = chart_jobs(plan, views)
+    if ensemble_words is not None:
+        jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words["focus"])
+    charts = tuple(run_jobs(jobs))
+    listed = [*PACK_FILES, *extra_files]
+    bands_csv = uncertainty_daily_csv(ensemble)
+    if bands_csv is not None:
+        listed.insert(5, (UNCERTAINTY_CSV, "Daily uncertainty bands and chances of beds running "
+                                           "short, every scenario and variant."))
+    # The PDF gets the PNG copies: weasyprint lays out a PNG about ten times
+    # faster than an SVG chart, and at 200 dpi it prints sharply. The HTML
+    # page gets the SVG copies, which stay sharp at any zoom.
+    base = words.build_context(
+        plan, results, figures=_figures(views, charts, "png"), version=__version__,
+        generated=when, files=listed, uncertainty=ensemble, notes=notes,
+    )
+    html_context = {
+        **base,
+        "figures": _figures(views, charts, "svg"),
+        "inline_css": markupsafe.Markup(_standalone_css()),
+    }
+    tell("Writing the briefing pack, the results workbook and the data files")
+    out = _documents(plan, results, ensemble, base, html_context, when)
+    if bands_csv is not None:
+        out[UNCERTAINTY_CSV] = bands_csv
+    for chart in charts:
+        out[f"charts/{chart.name}.svg"] = chart.svg
+        out[f"charts/{chart.name}.png"] = chart.png
+    return Pack(files=out, charts=tuple(charts), title=plan.details.title)
+
+
+
+def _documents(
+    plan: Plan,
+    results: PlanResults,
+    ensemble: UncertaintyResults | None,
+    base: Mapping[str, Any],
+    html_context: Mapping[str, Any],
+    when: dt.datetime,
+) -> dict[str, bytes]:
+    """The pack's documents and data files: PDF, HTML, results workbook, CSV and JSON."""
+    title = f"{plan.details.title} ({plan.details.jurisdiction})"
+    # The PDF is the slowest document; the others are written beside it.
+    documents: list[Callable[[], bytes]] = [
+        lambda: html_to_pdf(
+            render_html("pack.html.j2", base), page_size=plan.details.page_size, title=title,
+            lang="en", created=when,
+        ),
+        lambda: results_workbook_bytes(
+            plan, results, version=__version__, generated=when,
+            extra_sheets=uncertainty_sheets(ensemble),
+        ),
+        lambda: render_html("pack.html.j2", html_context).encode("utf-8"),
+        lambda: daily_csv(results),
+    ]
+    pdf, xlsx, html, daily = run_jobs(documents)
+    out: dict[str, bytes] = {
+        "briefing-pack.pdf": pdf,
+        "briefing-pack.html": html,
+        "results.xlsx": xlsx,
+        "daily-series.csv": daily,
+        "daily-series-columns.csv": columns_csv(),
+        "summary.json": summary_bytes(
+            plan, results, ensemble_summary(ensemble), when
+        ),
+    }
+    return out
+
+
+def write_pack(
+    outdir: Path,
+    pack: Pack,
+    *,
+    before_commit: Callable[[], None] | None = None,
+    extra: Mapping[str, bytes] | None = None,
+    force: bool = False,
+) -> Path:
+    """Write a pack into ``outdir`` at once (the previous pack or nothing until it is whole).
+
+    Parameters
+    ----------
+    outdir : pathlib.Path
+        Output folder; it must be empty, absent or hold a previous pack.
+    pack : Pack
+        The files.
+    before_commit : callable, optional
+        Called when every file is written, before the folder is swapped in;
+        raising from it leaves ``outdir`` as it was.
+    extra : mapping of str to bytes, optional
+        Further files (the demo's copy of its workbook).
+    force : bool, optional
+        Replace files of the previous pack that were edited since prepkit
+        wrote them (otherwise :class:`~prepkit.errors.EditedFilesError`).
+
+    Returns
+    -------
+    pathlib.Path
+        The output folder.
+    """
+    with AtomicOutputDir(outdir, created=None, replace_edited=force) as out:
+        for name, data in {**pack.files, **(extra or {})}.items():
+            out.write_bytes(name, data)
+        if before_commit is not None:
+            before_commit()
+    return out.outdir
