@@ -77,6 +77,7 @@ from numpy.typing import NDArray
 from scipy.special import betaincinv
 from scipy.stats import qmc
 
+from prepkit.base.json_values import jsonable
 from prepkit.errors import ModelError
 from prepkit.metrics.core import recent_sum
 from prepkit.plan import Level, Plan, Range3, Scenario
@@ -1396,52 +1397,27 @@ def _run_uncertainty_elsewhere(
 # --------------------------------------------------------------------------- JSON
 
 
-def _plain(value: Any) -> Any:
-    """Plain JSON value: ISO dates, None for NaN, infinities and missing values."""
-    if value is None:
-        return None
-    if isinstance(value, pd.Timestamp | dt.datetime):
-        return value.date().isoformat()
-    if isinstance(value, dt.date):
-        return value.isoformat()
-    if isinstance(value, bool | np.bool_):
-        return bool(value)
-    if isinstance(value, int | np.integer):
-        return int(value)
-    if isinstance(value, float | np.floating):
-        number = float(value)
-        return number if math.isfinite(number) else None
-    if isinstance(value, str):
-        return value
-    try:
-        if pd.isna(value):
-            return None
-    except (TypeError, ValueError):
-        pass
-    return value
-
-
 def _records(frame: pd.DataFrame, index_name: str | None = None) -> list[dict[str, Any]]:
     rows = []
     for key, row in frame.iterrows():
-        item = {str(k): _plain(v) for k, v in row.items()}
+        item = {str(k): jsonable(v) for k, v in row.items()}
         if index_name is not None:
-            item = {index_name: _plain(key), **item}
+            item = {index_name: jsonable(key), **item}
         rows.append(item)
     return rows
 
 
 def _ensemble_dict(result: EnsembleResult, include_daily: bool) -> dict[str, Any]:
     summary = {
-        str(metric): {str(k): _plain(v) for k, v in row.items()}
+        str(metric): {str(k): jsonable(v) for k, v in row.items()}
         for metric, row in result.summary.iterrows()
     }
     peak_dates = {
-        str(name): {str(k): _plain(v) for k, v in row.items()}
+        str(name): {str(k): jsonable(v) for k, v in row.items()}
         for name, row in result.peak_dates.iterrows()
     }
     any_day = {
-        f"{bed}_{column}": _plain(value)
+        f"{bed}_{column}": jsonable(value)
         for bed, row in result.exceedance_any_day.iterrows()
         for column, value in row.items()
     }
