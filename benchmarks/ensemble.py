@@ -256,7 +256,7 @@ def main() -> None:
             city = read_plan(workbook)
             city = replace(city, details=replace(city.details, draws=1000))
             plan_results = run_plan(city)
-            spread = run_uncertainty(city, plan_results, progress=False)
+            spread = run_uncertainty(city, plan_results)
             text = json.dumps({"summary": summary_dict(city, plan_results),
                                "uncertainty": uncertainty_summary_dict(spread)},
                               allow_nan=False)

@@ -158,7 +158,7 @@ def _job(path: Path, draws: int, result: JobResult, on_stage: Callable[[str], No
     if draws > 0:
         result.ensemble = True
         step("ensemble")
-        ensemble = uncertainty.run_uncertainty(plan, results, draws=draws, progress=False)
+        ensemble = uncertainty.run_uncertainty(plan, results, draws=draws)
         json.dumps(uncertainty.uncertainty_summary_dict(ensemble), allow_nan=False)
         check_ensemble(plan.population, ensemble, result)
     result.outcome = "model_ok"
@@ -228,7 +228,7 @@ def _defined(daily: pd.DataFrame) -> pd.DataFrame:
     """The daily table less occupancy shares of a bed type with no beds available.
 
     Demand over zero available beds is an infinite occupancy share by definition
-    (prepkit.metrics.core.add_capacity_columns): the model's triggers read it that way, and
+    (prepkit.metrics.capacity.add_capacity_columns): the model's triggers read it that way, and
     it is not a numerical failure.
     """
     drop = [f"{kind}_occupancy_share" for kind in ("ward", "icu")

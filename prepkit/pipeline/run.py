@@ -321,10 +321,32 @@ def _run_ensemble(
     if plan.details.draws <= 0:
         return None
     steps(f"Running {plan.details.draws:,} plausible futures per scenario and variant")
-    if scheduler is None:
-        return run_uncertainty(plan, results, progress=steps.interactive)
-    with _cluster_executor(scheduler) as executor:
-        return run_uncertainty(plan, results, progress=steps.interactive, executor=executor)
+    with _draws_bar(steps.interactive) as progress:
+        if scheduler is None:
+            return run_uncertainty(plan, results, progress=progress)
+        with _cluster_executor(scheduler) as executor:
+            return run_uncertainty(plan, results, progress=progress, executor=executor)
+
+
+@contextlib.contextmanager
+def _draws_bar(wanted: bool) -> Iterator[Callable[[int, int], None] | None]:
+    """A progress callback drawing a tqdm bar of draws on stderr, or None when not wanted."""
+    if not wanted:
+        yield None
+        return
+    from tqdm import tqdm
+
+    bar = tqdm(desc="uncertainty draws", unit="draw", file=sys.stderr, leave=False,
+               dynamic_ncols=True)
+
+    def show(done: int, total: int) -> None:
+        bar.total = total
+        bar.update(done - bar.n)
+
+    try:
+        yield show
+    finally:
+        bar.close()
 
 
 #: How long to wait for a Dask scheduler to answer [s].

@@ -31,7 +31,8 @@ from typing import Any, Literal
 import pandas as pd
 
 from prepkit.base.plural import all_of
-from prepkit.metrics.core import BedMetrics, ScenarioMetrics, VentilatorMetrics
+from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics
+from prepkit.metrics.core import ScenarioMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun, column_slug
@@ -408,7 +409,7 @@ def periods_over(demand: pd.Series, available: pd.Series | float) -> tuple[Perio
     -------
     tuple of Period
         In date order; their lengths add up to
-        :func:`prepkit.metrics.core.days_over_capacity`.
+        :func:`prepkit.metrics.beds.days_over_capacity`.
     """
     over = ((demand - available) > 0.0).to_numpy()
     dates = [pd.Timestamp(stamp).date() for stamp in demand.index]

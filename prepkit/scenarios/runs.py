@@ -27,12 +27,12 @@ import pandas as pd
 from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
+from prepkit.metrics.absence import add_absence_columns
+from prepkit.metrics.capacity import add_capacity_columns
 from prepkit.metrics.core import (
     BurdenTotals,
     InterventionEffect,
     ScenarioMetrics,
-    add_absence_columns,
-    add_capacity_columns,
     intervention_effect,
     scenario_metrics,
 )

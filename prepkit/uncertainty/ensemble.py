@@ -57,7 +57,7 @@ from numpy.typing import NDArray
 from scipy.special import gammainc
 
 from prepkit.errors import ModelError
-from prepkit.metrics.core import working_age_weights
+from prepkit.metrics.absence import employed_weights
 from prepkit.plan import SETTINGS, Plan
 from prepkit.simulation.compile import DEFAULT_SUBSTEPS, MAX_STEP_RATE, CompiledModel
 from prepkit.simulation.diagnose import draw_error
@@ -581,13 +581,6 @@ def in_threads(
         return list(pool.map(func, parts))
 
 
-def employed_weights(plan: Plan) -> NDArray[np.float64]:
-    """Employed workers per resident of each band [fraction] (see :mod:`prepkit.metrics.core`)."""
-    workforce = plan.workforce
-    weight = working_age_weights(plan.bands, workforce.working_age_min, workforce.working_age_max)
-    return np.asarray(weight * workforce.employed_share, dtype=np.float64)
-
-
 def simulate_draws(
     model: CompiledModel,
     plan: Plan,
@@ -656,7 +649,7 @@ def simulate_draws(
     floor, limit, force_limit = step_rule(min_substeps)
     growth_limit = float(model.pc[scalar_offset(model.layout.bands) + S_GROWTH_STEP])
     most = most_substeps(floor, min(limit, force_limit, growth_limit))
-    employed = employed_weights(plan)
+    employed = employed_weights(plan.bands, plan.workforce)
     use_all_cores()
     edges = np.linspace(0, n, max(1, min(int(blocks), max(n, 1))) + 1).astype(int)
     for start, stop in zip(edges[:-1], edges[1:], strict=True):

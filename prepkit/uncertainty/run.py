@@ -64,7 +64,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 import os
-import sys
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from concurrent.futures import Executor, Future, as_completed
@@ -79,7 +78,8 @@ from scipy.stats import qmc
 
 from prepkit.base.json_values import jsonable
 from prepkit.errors import ModelError
-from prepkit.metrics.core import recent_sum
+from prepkit.metrics.absence import absence, worker_count
+from prepkit.metrics.beds import bed_loads, bed_supply, outbreak_demand
 from prepkit.plan import Level, Plan, Range3, Scenario
 from prepkit.scenarios.runs import PlanResults, ScenarioRun, compile_scenario
 from prepkit.simulation.compile import CompiledModel
@@ -90,7 +90,6 @@ from prepkit.uncertainty.ensemble import (
     FINAL_NAMES,
     DrawSeries,
     DrawValues,
-    employed_weights,
     in_threads,
     simulate_draws,
 )
@@ -118,7 +117,7 @@ __all__ = [
 ]
 
 Variant = Literal["with", "without"]
-Progress = Callable[[int, int], None] | bool | None
+Progress = Callable[[int, int], None] | None
 
 PERT_LAMBDA = 4.0
 """Shape parameter of the beta-PERT distribution (Malcolm et al. 1959; Vose 2008)."""
@@ -742,63 +741,15 @@ class UncertaintyResults:
         return len(self.scenarios)
 
 
-def _surge_available(
-    demand: NDArray[np.float64], available: float, surge: float, trigger: float,
-    days_to_open: float,
-) -> NDArray[np.float64]:
-    """Available beds per draw and day, surge included.
-
-    The rule of :func:`prepkit.metrics.core.surge_schedule`, for many draws at once.
-    """
-    n, days = demand.shape
-    if available <= 0.0:
-        reached = demand > 0.0
-    else:
-        reached = demand >= trigger * available
-    hit = reached.any(axis=1)
-    first = np.argmax(reached, axis=1)
-    opening = first + int(math.ceil(max(days_to_open, 0.0)))
-    opening = np.where(hit & (surge > 0.0), opening, days)
-    open_now = np.arange(days)[None, :] >= opening[:, None]
-    return available + surge * open_now
-
-
-def _bed_outputs(
-    census: NDArray[Any], catchment: float, available: float, surge: float, trigger: float,
-    days_to_open: float,
-) -> dict[str, NDArray[Any]]:
-    demand = census.astype(np.float64) * catchment
-    with_surge = _surge_available(demand, available, surge, trigger, days_to_open)
-    over = demand > available
-    over_surge = demand > with_surge
-    return {
-        "over": over,
-        "over_surge": over_surge,
-        "days_over": over.sum(axis=1),
-        "days_over_surge": over_surge.sum(axis=1),
-        "unmet": np.clip(demand - available, 0.0, None).sum(axis=1),
-        "unmet_surge": np.clip(demand - with_surge, 0.0, None).sum(axis=1),
-    }
-
-
-def _absence(
-    plan: Plan, onsets: NDArray[Any], school: NDArray[Any]
-) -> NDArray[np.float64]:
-    """Absence share per draw and day [fraction].
-
-    As :func:`prepkit.metrics.core.add_absence_columns`.
+def _absence_share(plan: Plan, onsets: NDArray[Any], school: NDArray[Any]) -> NDArray[np.float64]:
+    """Absence share per draw and day [fraction] (:func:`prepkit.metrics.absence.absence`).
 
     ``onsets`` are the employed-weighted symptom onsets per draw and day
     [persons/day], ``school`` the school closure intensity [fraction].
     """
-    workforce = plan.workforce
     population = np.array([b.people for b in plan.bands], dtype=np.float64)
-    workers = float(np.dot(employed_weights(plan), population))
-    if workers <= 0.0:
-        return np.zeros(onsets.shape)
-    ill = recent_sum(onsets.astype(np.float64).T, workforce.days_absent_per_illness).T
-    carers = workforce.carer_share_school_closure * workers * school.astype(np.float64)
-    return np.asarray(np.minimum(1.0, (ill + carers) / workers), dtype=np.float64)
+    workers = worker_count(plan.bands, population, plan.workforce)
+    return absence(onsets, school, workers, plan.workforce)[2]
 
 
 SCALAR_CHUNK = 1024
@@ -810,10 +761,7 @@ def _scalars(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]], di
     capacity = plan.capacity
     catch = capacity.catchment_share
     n, days = draws.series.shape[1:]
-    beds = {
-        "ward": (capacity.ward_beds, capacity.ward_baseline_occupancy, capacity.surge_ward_beds),
-        "icu": (capacity.icu_beds, capacity.icu_baseline_occupancy, capacity.surge_icu_beds),
-    }
+    beds = bed_supply(capacity)
     out: dict[str, NDArray[Any]] = {}
     daily: dict[str, Any] = {
         "absence_share": np.empty((n, days), dtype=draws.series.dtype),
@@ -828,23 +776,22 @@ def _scalars(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]], di
     school = draws.get("school_closure_intensity_share")
     for start in range(0, n, SCALAR_CHUNK):
         rows = slice(start, min(n, start + SCALAR_CHUNK))
-        for kind, (total, baseline, surge) in beds.items():
-            available = float(total) * (1.0 - baseline)
-            got = _bed_outputs(
-                draws.get(f"{kind}_census_persons")[rows], catch, available, float(surge),
-                capacity.surge_trigger_occupancy, capacity.surge_days_to_open,
+        for kind, (available, surge) in beds.items():
+            got = bed_loads(
+                outbreak_demand(draws.get(f"{kind}_census_persons")[rows], capacity),
+                available, surge, capacity.surge_trigger_occupancy, capacity.surge_days_to_open,
             )
             for key in ("over", "over_surge"):
                 daily[f"{kind}_{key}"][rows] = got[key]
             for key in ("days_over", "days_over_surge", "unmet", "unmet_surge"):
                 out[f"{kind}_{key}"][rows] = got[key]
-        absence = _absence(plan, onsets[rows], school[rows])
-        peak_absence[rows] = absence.max(axis=1)
-        daily["absence_share"][rows] = absence
+        share = _absence_share(plan, onsets[rows], school[rows])
+        peak_absence[rows] = share.max(axis=1)
+        daily["absence_share"][rows] = share
 
     scalars: dict[str, NDArray[Any]] = {}
-    for k, (kind, (total, baseline, _)) in enumerate(beds.items()):
-        daily[f"{kind}_available"] = float(total) * (1.0 - baseline)
+    for k, (kind, (available, _)) in enumerate(beds.items()):
+        daily[f"{kind}_available"] = available
         scalars[f"peak_{kind}_demand_beds"] = draws.peaks[:, k] * catch
         scalars[f"peak_{kind}_census_persons"] = draws.peaks[:, k]
         scalars[f"{kind}_days_over_capacity_days"] = out[f"{kind}_days_over"]
@@ -1227,33 +1174,18 @@ def run_ensemble(
 # --------------------------------------------------------------------------- progress
 
 
-def _interactive() -> bool:
-    """True when a progress bar is welcome: stderr is a terminal and CI is not set."""
-    stream = sys.stderr
-    return bool(getattr(stream, "isatty", lambda: False)()) and not os.environ.get("CI")
+def _progress_ticker(progress: Progress, total: int) -> Callable[[int], None]:
+    """A tick function (draws finished) that reports ``(done, total)`` to ``progress``."""
+    if progress is None:
+        return lambda count: None
+    report = progress
+    done = [0]
 
+    def tick(count: int) -> None:
+        done[0] += count
+        report(done[0], total)
 
-def _progress_ticker(
-    progress: Progress, total: int
-) -> tuple[Callable[[int], None], Callable[[], None]]:
-    """A tick function (draws finished) and a close function for the chosen progress style."""
-    if callable(progress):
-        report = progress
-        done = [0]
-
-        def tick(count: int) -> None:
-            done[0] += count
-            report(done[0], total)
-
-        return tick, lambda: None
-    wanted = _interactive() if progress is None else bool(progress)
-    if not wanted or total == 0:
-        return (lambda count: None), (lambda: None)
-    from tqdm import tqdm
-
-    bar = tqdm(total=total, desc="uncertainty draws", unit="draw", file=sys.stderr,
-               leave=False, dynamic_ncols=True)
-    return bar.update, bar.close
+    return tick
 
 
 def run_uncertainty(
@@ -1282,11 +1214,9 @@ def run_uncertainty(
         0 turns the ensemble off (empty results).
     quantiles : sequence of float
         Quantiles to report [fraction]; the median is always added.
-    progress : callable, bool or None
-        A callable gets ``(draws_done, draws_total)`` after each block; True
-        shows a tqdm bar on stderr; False shows nothing; None (default)
-        shows the bar only on an interactive terminal (stderr is a TTY and
-        the ``CI`` environment variable is not set).
+    progress : callable, optional
+        Gets ``(draws_done, draws_total)`` after each block (the caller
+        draws any progress bar); None (default) reports nothing.
     seed : int, optional
         Random seed; default ``plan.details.seed``.
     min_substeps : int or None
@@ -1321,27 +1251,24 @@ def run_uncertainty(
             min_substeps=min_substeps, blocks=blocks, progress=progress, started=started,
         )
     cache = _ValueCache(sample)
-    tick, close = _progress_ticker(progress, count * 2 * len(plan.scenarios))
+    tick = _progress_ticker(progress, count * 2 * len(plan.scenarios))
     out = []
-    try:
-        for scenario in plan.scenarios:
-            pair = {}
-            for flag in (True, False):
-                run = None
-                if results is not None:
-                    run = results[scenario.name].variant("with" if flag else "without")
-                pair[flag] = run_ensemble(
-                    plan, scenario, flag, sample=sample, seed=used_seed, quantiles=qs,
-                    scenario_run=run, min_substeps=min_substeps, blocks=blocks,
-                    on_block=tick, _cache=cache,
-                )
-            out.append(ScenarioUncertainty(
-                scenario=scenario.name,
-                with_interventions=pair[True],
-                without_interventions=pair[False],
-            ))
-    finally:
-        close()
+    for scenario in plan.scenarios:
+        pair = {}
+        for flag in (True, False):
+            run = None
+            if results is not None:
+                run = results[scenario.name].variant("with" if flag else "without")
+            pair[flag] = run_ensemble(
+                plan, scenario, flag, sample=sample, seed=used_seed, quantiles=qs,
+                scenario_run=run, min_substeps=min_substeps, blocks=blocks,
+                on_block=tick, _cache=cache,
+            )
+        out.append(ScenarioUncertainty(
+            scenario=scenario.name,
+            with_interventions=pair[True],
+            without_interventions=pair[False],
+        ))
     return UncertaintyResults(
         draws=count, seed=used_seed, quantiles=qs, dimensions=dims, scenarios=tuple(out),
         seconds=time.perf_counter() - started,
@@ -1374,20 +1301,17 @@ def _run_uncertainty_elsewhere(
                 run_ensemble, plan, scenario, flag, sample=sample, seed=seed,
                 quantiles=quantiles, scenario_run=run, min_substeps=min_substeps, blocks=blocks,
             )
-    tick, close = _progress_ticker(progress, count * len(futures))
-    try:
-        for _done in as_completed(futures.values()):
-            tick(count)
-        out = tuple(
-            ScenarioUncertainty(
-                scenario=scenario.name,
-                with_interventions=futures[scenario.name, True].result(),
-                without_interventions=futures[scenario.name, False].result(),
-            )
-            for scenario in plan.scenarios
+    tick = _progress_ticker(progress, count * len(futures))
+    for _done in as_completed(futures.values()):
+        tick(count)
+    out = tuple(
+        ScenarioUncertainty(
+            scenario=scenario.name,
+            with_interventions=futures[scenario.name, True].result(),
+            without_interventions=futures[scenario.name, False].result(),
         )
-    finally:
-        close()
+        for scenario in plan.scenarios
+    )
     return UncertaintyResults(
         draws=count, seed=seed, quantiles=quantiles, dimensions=dims, scenarios=out,
         seconds=time.perf_counter() - started,

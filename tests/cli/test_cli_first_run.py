@@ -70,7 +70,7 @@ def test_compiled_kernels_mean_no_note(plan_path: Path) -> None:
     from prepkit.workbook import read_plan
 
     plan = read_plan(plan_path)
-    run_uncertainty(plan, run_plan(plan), progress=False)  # every kernel has run in this process
+    run_uncertainty(plan, run_plan(plan))  # every kernel has run in this process
     assert pipeline.kernels_need_compiling() is False
     assert pipeline.first_use_note() is None
 

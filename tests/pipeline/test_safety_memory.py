@@ -116,10 +116,10 @@ def test_the_estimate_covers_the_memory_the_ensemble_uses(draws: int) -> None:
     # the peak, and stay within three times it so it does not refuse runs that would fit.
     plan = small_plan()
     results = run_plan(plan)
-    run_uncertainty(plan, results, draws=20, progress=False)  # compiled before measuring
+    run_uncertainty(plan, results, draws=20)  # compiled before measuring
     tracemalloc.start()
     try:
-        run_uncertainty(plan, results, draws=draws, progress=False)
+        run_uncertainty(plan, results, draws=draws)
         _current, peak = tracemalloc.get_traced_memory()
     finally:
         tracemalloc.stop()

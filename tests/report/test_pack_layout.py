@@ -372,7 +372,7 @@ def packs(tmp_path_factory: pytest.TempPathFactory) -> list[Rendered]:
         for workbook in SAMPLES:
             plan = read_plan(sample_workbook(workbook))
             results = run_plan(plan)
-            ensemble = run_uncertainty(plan, results, progress=False)
+            ensemble = run_uncertainty(plan, results)
             for size in SIZES:
                 sized = dataclasses.replace(
                     plan, details=dataclasses.replace(plan.details, page_size=size)

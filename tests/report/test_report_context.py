@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 from factories import banded_plan
 
-from prepkit.metrics.core import BedMetrics
+from prepkit.metrics.capacity import BedMetrics
 from prepkit.plan import End, InputRecord, Isolation, Start
 from prepkit.report import context as words
 from prepkit.scenarios.runs import run_plan
@@ -100,7 +100,7 @@ def test_shortfall_adds_up_as_printed(
 def test_bed_sentence_adds_up() -> None:
     import datetime as dt
 
-    from prepkit.metrics.core import BedMetrics
+    from prepkit.metrics.capacity import BedMetrics
 
     fields = {f: 0.0 for f in BedMetrics.__dataclass_fields__}
     fields.update(

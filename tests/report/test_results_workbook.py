@@ -81,8 +81,7 @@ def built_workbook() -> Built:
     """The hostile plan's results.xlsx with every sheet, built once per test session."""
     plan = _hostile_plan()
     results = run_plan(plan)
-    ensemble = run_uncertainty(plan, results, draws=12, quantiles=(0.025, 0.5, 0.9),
-                               progress=False)
+    ensemble = run_uncertainty(plan, results, draws=12, quantiles=(0.025, 0.5, 0.9))
     data = rw.results_workbook_bytes(plan, results, version="9.9", generated=WHEN,
                                      extra_sheets=rw.uncertainty_sheets(ensemble))
     return Built(plan=plan, results=results, ensemble=ensemble, data=data)

@@ -370,8 +370,8 @@ def test_run_uncertainty_covers_every_scenario_and_serialises(uncertain_plan):
 
 def test_run_uncertainty_is_reproducible(uncertain_plan):
     plan = with_draws(uncertain_plan, draws=12, horizon=100)
-    a = run_uncertainty(plan, progress=False)
-    b = run_uncertainty(plan, progress=False)
+    a = run_uncertainty(plan)
+    b = run_uncertainty(plan)
     left = a.scenarios[1].with_interventions.per_draw
     right = b.scenarios[1].with_interventions.per_draw
     assert left.equals(right)
