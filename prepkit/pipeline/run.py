@@ -90,11 +90,9 @@ from prepkit.report.results_workbook import (  # noqa: E402
 )
 from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv  # noqa: E402
 from prepkit.scenarios.runs import PlanResults, run_plan  # noqa: E402
-from prepkit.uncertainty.run import (  # noqa: E402
-    UncertaintyResults,
-    run_uncertainty,
-    uncertainty_summary_dict,
-)
+from prepkit.uncertainty.plan_runs import run_uncertainty  # noqa: E402
+from prepkit.uncertainty.results import UncertaintyResults  # noqa: E402
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict  # noqa: E402
 from prepkit.workbook.describe import all_of  # noqa: E402
 from prepkit.workbook.reader import read_plan_with_warnings  # noqa: E402
 

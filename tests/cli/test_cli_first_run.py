@@ -66,7 +66,7 @@ def test_an_empty_numba_cache_means_compiling(tmp_path: Path) -> None:
 
 def test_compiled_kernels_mean_no_note(plan_path: Path) -> None:
     from prepkit.scenarios.runs import run_plan
-    from prepkit.uncertainty.run import run_uncertainty
+    from prepkit.uncertainty.plan_runs import run_uncertainty
     from prepkit.workbook import read_plan
 
     plan = read_plan(plan_path)

@@ -20,7 +20,7 @@ from prepkit.cli.main import main
 from prepkit.pipeline import guard as pipeline_guard
 from prepkit.pipeline import run as pipeline
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook import schema
 from prepkit.workbook.reader import read_plan
 

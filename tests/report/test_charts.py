@@ -24,7 +24,7 @@ from prepkit.report import charts, charts_base
 from prepkit.report import context as words
 from prepkit.report.safety import AssetFetcher
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
 matplotlib.use("Agg")

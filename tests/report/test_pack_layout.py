@@ -39,7 +39,7 @@ from prepkit.pipeline.run import render_pack, sample_workbook
 from prepkit.report.charts_base import TEXT_BLOCK_HEIGHTS_IN, chart_height
 from prepkit.report.render import templates_dir
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
 SAMPLES = ("vellmora_city.xlsx", "tamsett_hollow.xlsx")

@@ -451,7 +451,7 @@ def test_build_context_is_plain_data(small_results: Any) -> None:
 def test_band_columns_name_the_ensemble_columns_for_any_quantiles() -> None:
     # The report reads the columns the ensemble writes, including fractional percentiles.
     from prepkit.report.context import band_columns
-    from prepkit.uncertainty.run import quantile_label
+    from prepkit.uncertainty.results import quantile_label
 
     assert band_columns((0.05, 0.5, 0.95)) == ("q05", "q50", "q95")
     assert band_columns((0.025, 0.5, 0.975)) == (

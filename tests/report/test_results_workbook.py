@@ -35,7 +35,9 @@ from prepkit.report.results_workbook_columns_uncertainty import (
 )
 from prepkit.report.tables import daily_csv
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import SUMMARY_METRICS, run_uncertainty, uncertainty_summary_dict
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import SUMMARY_METRICS
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
 WHEN = dt.datetime(2027, 1, 2, 3, 4, 5, tzinfo=dt.UTC)
 HOSTILE = '=HYPERLINK("http://example.invalid","click")'

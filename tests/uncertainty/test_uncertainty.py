@@ -25,26 +25,19 @@ from prepkit.scenarios.runs import compile_scenario, run_plan, run_scenario
 from prepkit.simulation.layout import S_BETA, scalar_offset
 from prepkit.simulation.natural_history import share_before_isolation
 from prepkit.simulation.transmissibility import beta_for_growth_rate, beta_for_r0
-from prepkit.uncertainty.ensemble import (
-    build_parameters,
-    calibrate_beta,
-    shares_before_isolation,
-    simulate_draws,
-)
+from prepkit.uncertainty.ensemble import calibrate_beta, simulate_draws
+from prepkit.uncertainty.parameters import build_parameters, shares_before_isolation
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import quantile_label
 from prepkit.uncertainty.run import (
     draw_values,
-    latin_hypercube,
-    pert_mean,
-    pert_parameters,
-    pert_ppf,
     plan_dimensions,
-    quantile_label,
     run_ensemble,
-    run_uncertainty,
     sample_quantiles,
     scenario_fields,
-    uncertainty_summary_dict,
 )
+from prepkit.uncertainty.sampling import latin_hypercube, pert_mean, pert_parameters, pert_ppf
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
 
 def with_draws(plan, draws=40, seed=7, horizon=None):

@@ -15,7 +15,8 @@ from test_uncertainty import uncertain_plan, with_draws  # noqa: F401  (fixture)
 from prepkit.cli.main import main
 from prepkit.pipeline import run as pipeline
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import UncertaintyResults, run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import UncertaintyResults
 
 
 def _assert_same(a: UncertaintyResults, b: UncertaintyResults) -> None:
