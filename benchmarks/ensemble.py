@@ -63,6 +63,7 @@ from prepkit.simulation.compile import CompiledModel  # noqa: E402
 from prepkit.simulation.kernels import decide_day, rhs  # noqa: E402
 from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
 from prepkit.simulation.simulate import simulate_reference  # noqa: E402
+from prepkit.simulation.threads import use_all_cores  # noqa: E402
 from prepkit.uncertainty.ensemble import simulate_draws  # noqa: E402
 from prepkit.uncertainty.plan_runs import run_uncertainty  # noqa: E402
 from prepkit.uncertainty.run import (  # noqa: E402
@@ -71,7 +72,6 @@ from prepkit.uncertainty.run import (  # noqa: E402
     sample_quantiles,
 )
 from prepkit.uncertainty.summary_json import uncertainty_summary_dict  # noqa: E402
-from prepkit.uncertainty.threads import use_all_cores  # noqa: E402
 
 SCENARIO = "Fast spread, severe, all measures"
 HORIZON = 365

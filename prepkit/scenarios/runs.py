@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Any, Generic, Literal, TypeVar
 
 import pandas as pd
 
@@ -44,6 +44,7 @@ __all__ = [
 ]
 
 Variant = Literal["with", "without"]
+Item = TypeVar("Item")
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -102,8 +103,31 @@ class ScenarioResults:
         return self.with_interventions if name == "with" else self.without_interventions
 
 
+class ByScenario(Generic[Item]):
+    """Items in plan order, one per scenario, looked up by scenario name."""
+
+    scenarios: tuple[Item, ...]
+
+    @staticmethod
+    def name_of(item: Item) -> str:
+        """Scenario name of an item."""
+        raise NotImplementedError
+
+    def __getitem__(self, name: str) -> Item:
+        for item in self.scenarios:
+            if self.name_of(item) == name:
+                return item
+        raise KeyError(name)
+
+    def __iter__(self) -> Iterator[Item]:
+        return iter(self.scenarios)
+
+    def __len__(self) -> int:
+        return len(self.scenarios)
+
+
 @dataclass(frozen=True, kw_only=True, eq=False)
-class PlanResults:
+class PlanResults(ByScenario[ScenarioResults]):
     """Every scenario of a plan, with and without interventions.
 
     Attributes
@@ -118,17 +142,10 @@ class PlanResults:
     scenarios: tuple[ScenarioResults, ...]
     transmissibility_by_level: Mapping[Level, Transmissibility]
 
-    def __getitem__(self, name: str) -> ScenarioResults:
-        for item in self.scenarios:
-            if item.scenario.name == name:
-                return item
-        raise KeyError(name)
-
-    def __iter__(self) -> Iterator[ScenarioResults]:
-        return iter(self.scenarios)
-
-    def __len__(self) -> int:
-        return len(self.scenarios)
+    @staticmethod
+    def name_of(item: ScenarioResults) -> str:
+        """Scenario name of an item."""
+        return item.scenario.name
 
 
 def _scenario(plan: Plan, scenario: Scenario | str) -> Scenario:

@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Literal
 
 import pandas as pd
+
+from prepkit.scenarios.runs import ByScenario
 
 Variant = Literal["with", "without"]
 
@@ -169,7 +170,7 @@ class ScenarioUncertainty:
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
-class UncertaintyResults:
+class UncertaintyResults(ByScenario[ScenarioUncertainty]):
     """Ensembles of every scenario of a plan.
 
     Attributes
@@ -195,14 +196,7 @@ class UncertaintyResults:
     scenarios: tuple[ScenarioUncertainty, ...]
     seconds: float
 
-    def __getitem__(self, name: str) -> ScenarioUncertainty:
-        for item in self.scenarios:
-            if item.scenario == name:
-                return item
-        raise KeyError(name)
-
-    def __iter__(self) -> Iterator[ScenarioUncertainty]:
-        return iter(self.scenarios)
-
-    def __len__(self) -> int:
-        return len(self.scenarios)
+    @staticmethod
+    def name_of(item: ScenarioUncertainty) -> str:
+        """Scenario name of an item."""
+        return item.scenario

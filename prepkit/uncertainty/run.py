@@ -336,12 +336,10 @@ def run_ensemble(
 
     Parameters
     ----------
-    plan : Plan
-        The plan.
-    scenario : Scenario or str
-        The scenario or its name.
+    plan, scenario : Plan, and Scenario or str
+        The plan, and the scenario or its name.
     with_interventions : bool
-        False runs the scenario without its interventions.
+        True for the variant with the scenario's interventions, False without.
     draws : int, optional
         Number of draws [count]; default ``plan.details.draws`` (ignored
         when ``sample`` is given).
@@ -384,8 +382,7 @@ def run_ensemble(
     chosen = plan.scenario(scenario) if isinstance(scenario, str) else scenario
     used_seed = plan.details.seed if seed is None else int(seed)
     if sample is None:
-        count = plan.details.draws if draws is None else int(draws)
-        sample = sample_quantiles(plan, count, used_seed)
+        sample = sample_quantiles(plan, plan.details.draws if draws is None else draws, used_seed)
     qs = reported_quantiles(quantiles)
     model = compile_scenario(plan, chosen, with_interventions)
     fields = scenario_fields(plan, chosen)

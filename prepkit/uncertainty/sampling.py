@@ -29,7 +29,7 @@ from scipy.special import betaincinv
 from scipy.stats import qmc
 
 from prepkit.errors import ModelError
-from prepkit.uncertainty.threads import in_threads
+from prepkit.simulation.threads import in_threads
 
 PERT_LAMBDA = 4.0
 """Shape parameter of the beta-PERT distribution (Malcolm et al. 1959; Vose 2008)."""
