@@ -76,10 +76,8 @@ class EnsembleResult:
 
     Attributes
     ----------
-    scenario : str
-        Scenario name.
-    variant : {"with", "without"}
-        With or without the scenario's interventions.
+    scenario, variant : str, and {"with", "without"}
+        Scenario name, and whether its interventions are in force.
     draws : int
         Number of draws [count].
     seed : int

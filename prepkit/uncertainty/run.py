@@ -297,10 +297,8 @@ def draw_values(
 
     Parameters
     ----------
-    plan : Plan
-        The plan.
-    scenario : Scenario or str
-        The scenario.
+    plan, scenario : Plan, and Scenario or str
+        The plan, and the scenario whose fields are drawn.
     quantiles : ndarray, shape (draws, dimensions)
         From :func:`sample_quantiles`.
     cache : optional
