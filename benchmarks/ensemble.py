@@ -63,14 +63,15 @@ from prepkit.simulation.compile import CompiledModel  # noqa: E402
 from prepkit.simulation.kernels import decide_day, rhs  # noqa: E402
 from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
 from prepkit.simulation.simulate import simulate_reference  # noqa: E402
-from prepkit.uncertainty.ensemble import simulate_draws, use_all_cores  # noqa: E402
+from prepkit.simulation.threads import use_all_cores  # noqa: E402
+from prepkit.uncertainty.ensemble import simulate_draws  # noqa: E402
+from prepkit.uncertainty.plan_runs import run_uncertainty  # noqa: E402
 from prepkit.uncertainty.run import (  # noqa: E402
     draw_values,
     run_ensemble,
-    run_uncertainty,
     sample_quantiles,
-    uncertainty_summary_dict,
 )
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict  # noqa: E402
 
 SCENARIO = "Fast spread, severe, all measures"
 HORIZON = 365
@@ -256,7 +257,7 @@ def main() -> None:
             city = read_plan(workbook)
             city = replace(city, details=replace(city.details, draws=1000))
             plan_results = run_plan(city)
-            spread = run_uncertainty(city, plan_results, progress=False)
+            spread = run_uncertainty(city, plan_results)
             text = json.dumps({"summary": summary_dict(city, plan_results),
                                "uncertainty": uncertainty_summary_dict(spread)},
                               allow_nan=False)

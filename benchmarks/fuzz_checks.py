@@ -44,7 +44,8 @@ from test_workbook_fuzz import check_plan_invariants
 from prepkit.errors import PrepkitError, WorkbookError
 from prepkit.pipeline import summary
 from prepkit.scenarios import runs as engine
-from prepkit.uncertainty import run as uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 from prepkit.workbook import describe, reader
 
 TOLERANCE_SHARE = 1e-6
@@ -158,8 +159,8 @@ def _job(path: Path, draws: int, result: JobResult, on_stage: Callable[[str], No
     if draws > 0:
         result.ensemble = True
         step("ensemble")
-        ensemble = uncertainty.run_uncertainty(plan, results, draws=draws, progress=False)
-        json.dumps(uncertainty.uncertainty_summary_dict(ensemble), allow_nan=False)
+        ensemble = run_uncertainty(plan, results, draws=draws)
+        json.dumps(uncertainty_summary_dict(ensemble), allow_nan=False)
         check_ensemble(plan.population, ensemble, result)
     result.outcome = "model_ok"
 
@@ -211,7 +212,7 @@ def check_results(population: float, results: Any, into: JobResult) -> None:
 
 
 def check_ensemble(population: float, ensemble: Any, into: JobResult) -> None:
-    """Finite and non-negative tables of :func:`prepkit.uncertainty.run.run_uncertainty`."""
+    """Finite and non-negative tables of :func:`prepkit.uncertainty.plan_runs.run_uncertainty`."""
     tolerance = TOLERANCE_SHARE * population
     for item in ensemble.scenarios:
         for result in (item.with_interventions, item.without_interventions):
@@ -228,7 +229,7 @@ def _defined(daily: pd.DataFrame) -> pd.DataFrame:
     """The daily table less occupancy shares of a bed type with no beds available.
 
     Demand over zero available beds is an infinite occupancy share by definition
-    (prepkit.metrics.core.add_capacity_columns): the model's triggers read it that way, and
+    (prepkit.metrics.capacity.add_capacity_columns): the model's triggers read it that way, and
     it is not a numerical failure.
     """
     drop = [f"{kind}_occupancy_share" for kind in ("ward", "icu")

@@ -8,10 +8,12 @@ from concurrent.futures import Executor
 from typing import Any
 
 from prepkit.errors import PipelineError
-from prepkit.pipeline.progress import Steps
+from prepkit.pipeline.progress import Steps, draws_bar
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults
-from prepkit.uncertainty.run import UncertaintyResults, run_uncertainty, uncertainty_summary_dict
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import UncertaintyResults
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
 __all__ = ["CLUSTER_TIMEOUT_SECONDS", "ensemble_summary", "run_ensemble"]
 
@@ -23,10 +25,11 @@ def run_ensemble(
     if plan.details.draws <= 0:
         return None
     steps(f"Running {plan.details.draws:,} plausible futures per scenario and variant")
-    if scheduler is None:
-        return run_uncertainty(plan, results, progress=steps.interactive)
-    with _cluster_executor(scheduler) as executor:
-        return run_uncertainty(plan, results, progress=steps.interactive, executor=executor)
+    with draws_bar(steps.interactive) as progress:
+        if scheduler is None:
+            return run_uncertainty(plan, results, progress=progress)
+        with _cluster_executor(scheduler) as executor:
+            return run_uncertainty(plan, results, progress=progress, executor=executor)
 
 
 #: How long to wait for a Dask scheduler to answer [s].

@@ -46,7 +46,7 @@ _DRAWS = FIELDS_BY_NAME["details.draws"]
 MAX_DRAWS = int(_DRAWS.maximum) if _DRAWS.maximum is not None else 100_000
 
 #: Memory per draw and day while one scenario variant runs [bytes]: the five daily series
-#: the kernel keeps per draw (:data:`prepkit.uncertainty.ensemble.SERIES_NAMES`, float32: 20 B),
+#: the kernel keeps per draw (:data:`prepkit.uncertainty.draws.SERIES_NAMES`, float32: 20 B),
 #: the daily absence share (float32: 4 B) and four over-capacity flags (bool: 4 B) that
 #: :mod:`prepkit.uncertainty.run` derives from them, and the working copy np.quantile makes
 #: of one series at a time (4 B): 32 B, with half again for temporaries. Measured with

@@ -33,7 +33,7 @@ from prepkit.report.render import html_to_pdf, render_html, templates_dir
 from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
 from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv
 from prepkit.scenarios.runs import PlanResults
-from prepkit.uncertainty.run import UncertaintyResults
+from prepkit.uncertainty.results import UncertaintyResults
 
 __all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "summary_bytes", "write_pack"]
 

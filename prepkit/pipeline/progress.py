@@ -7,9 +7,11 @@ nothing here reads the environment.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+import contextlib
+import sys
+from collections.abc import Callable, Iterator
 
-__all__ = ["Say", "Steps"]
+__all__ = ["Say", "Steps", "draws_bar"]
 
 #: Receives one message for the planner.
 Say = Callable[[str], None]
@@ -42,3 +44,24 @@ class Steps:
     def interactive(self) -> bool:
         """True when a progress bar may be drawn on the terminal."""
         return self.enabled and self._terminal
+
+
+@contextlib.contextmanager
+def draws_bar(wanted: bool) -> Iterator[Callable[[int, int], None] | None]:
+    """A progress callback drawing a tqdm bar of draws on stderr, or None when not wanted."""
+    if not wanted:
+        yield None
+        return
+    from tqdm import tqdm
+
+    bar = tqdm(desc="uncertainty draws", unit="draw", file=sys.stderr, leave=False,
+               dynamic_ncols=True)
+
+    def show(done: int, total: int) -> None:
+        bar.total = total
+        bar.update(done - bar.n)
+
+    try:
+        yield show
+    finally:
+        bar.close()

@@ -86,7 +86,7 @@ def uncertainty_chart_jobs(
         The plan.
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults or None
         The ensemble; None or an empty one gives no jobs.
     focus : str
         Scenario of the sensitivity chart.
@@ -131,7 +131,7 @@ def draw_uncertainty_charts(
         The plan.
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults or None
         The ensemble; None or an empty one gives no charts.
     focus : str
         Scenario of the sensitivity chart.

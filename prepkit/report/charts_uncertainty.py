@@ -76,7 +76,7 @@ def band_chart(
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
         Dates shown (:func:`prepkit.report.charts_windows.ensemble_window`).
@@ -150,7 +150,7 @@ def exceedance_chart(
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
         Dates shown (:func:`prepkit.report.charts_windows.exceedance_window`).
@@ -212,7 +212,7 @@ def weekly_peak_shares(result: Any) -> pd.Series:
 
     Parameters
     ----------
-    result : prepkit.uncertainty.run.EnsembleResult
+    result : prepkit.uncertainty.results.EnsembleResult
         One scenario's ensemble.
 
     Returns
@@ -241,7 +241,7 @@ def peak_date_chart(
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
         Dates shown (:func:`prepkit.report.charts_windows.ensemble_window`).
@@ -302,7 +302,7 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
     ----------
     name : str
         Scenario name.
-    result : prepkit.uncertainty.run.EnsembleResult
+    result : prepkit.uncertainty.results.EnsembleResult
         Its ensemble with measures.
     page_size : {"A4", "Letter"}
         Paper size of the pack.

@@ -113,7 +113,7 @@ def ensemble_window(
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
         The window of the other charts (:func:`chart_window`).
@@ -154,7 +154,7 @@ def exceedance_window(
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
     window : tuple of datetime.date
         The window of the band charts (:func:`ensemble_window`), used when no future runs

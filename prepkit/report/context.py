@@ -31,11 +31,13 @@ from typing import Any, Literal
 import pandas as pd
 
 from prepkit.base.plural import all_of
-from prepkit.metrics.core import BedMetrics, ScenarioMetrics, VentilatorMetrics
+from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics
+from prepkit.metrics.core import ScenarioMetrics
 from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
 from prepkit.report.observed import ObservedCheck, observed_checks
-from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun, column_slug
-from prepkit.uncertainty.run import quantile_label
+from prepkit.scenarios.daily import column_slug
+from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun
+from prepkit.uncertainty.results import quantile_label
 from prepkit.workbook import schema
 
 __all__ = [
@@ -408,7 +410,7 @@ def periods_over(demand: pd.Series, available: pd.Series | float) -> tuple[Perio
     -------
     tuple of Period
         In date order; their lengths add up to
-        :func:`prepkit.metrics.core.days_over_capacity`.
+        :func:`prepkit.metrics.beds.days_over_capacity`.
     """
     over = ((demand - available) > 0.0).to_numpy()
     dates = [pd.Timestamp(stamp).date() for stamp in demand.index]
@@ -843,7 +845,7 @@ def with_observations(
         The plan (its observations).
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults, optional
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults, optional
         The ensemble: its daily bands give each scenario's plausible range;
         without it the range is the central run alone.
 
@@ -1822,7 +1824,7 @@ def build_context(
         prepkit version.
     generated : datetime.datetime
         Run time.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults, optional
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults, optional
         The ensemble, when it was run (its words come from
         :func:`ensemble_context`).
     files : sequence of (str, str)
@@ -2297,7 +2299,7 @@ def ensemble_context(
         The plan.
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults or None
         The ensemble; None or an empty one gives None.
 
     Returns
@@ -2494,7 +2496,7 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
 
     Returns
@@ -2534,7 +2536,7 @@ def exceedance_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
 
     Returns
@@ -2567,7 +2569,7 @@ def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     ----------
     views : sequence of ScenarioView
         Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults
         The ensemble.
 
     Returns

@@ -25,7 +25,7 @@ from prepkit.report.results_workbook_columns import (
     column,
     key_columns,
 )
-from prepkit.uncertainty.run import quantile_label
+from prepkit.uncertainty.results import quantile_label
 
 __all__ = [
     "CHANCE",
@@ -127,7 +127,7 @@ class MetricRow:
     label : str
         Plain words.
     name : str
-        Name in :data:`prepkit.uncertainty.run.SUMMARY_METRICS` and in
+        Name in :data:`prepkit.uncertainty.results.SUMMARY_METRICS` and in
         ``summary.json``.
     unit : str
         Unit in words.

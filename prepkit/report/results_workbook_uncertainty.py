@@ -178,7 +178,7 @@ def uncertainty_sheets(uncertainty: Any) -> tuple[SheetWriter, ...]:
 
     Parameters
     ----------
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults or None
         The ensemble; None or an empty one gives no sheets.
 
     Returns

@@ -216,7 +216,7 @@ def uncertainty_daily_csv(uncertainty: Any) -> bytes | None:
 
     Parameters
     ----------
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+    uncertainty : prepkit.uncertainty.results.UncertaintyResults or None
         The ensemble.
 
     Returns

@@ -17,54 +17,18 @@ Typical use::
 
 from __future__ import annotations
 
-import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Any, Generic, Literal, TypeVar
 
-import numpy as np
 import pandas as pd
-from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
-from prepkit.metrics.core import (
-    BurdenTotals,
-    InterventionEffect,
-    ScenarioMetrics,
-    add_absence_columns,
-    add_capacity_columns,
-    intervention_effect,
-    scenario_metrics,
-)
-from prepkit.plan import LEVELS, SETTINGS, Level, Plan, Scenario
+from prepkit.metrics.core import InterventionEffect, ScenarioMetrics, intervention_effect
+from prepkit.plan import LEVELS, Level, Plan, Scenario
+from prepkit.scenarios.daily import run_outputs
 from prepkit.simulation.compile import CompiledModel, compile_model, transmissibility_of
 from prepkit.simulation.inputs import ResolvedInputs, resolve_inputs, validate_plan
-from prepkit.simulation.layout import (
-    BLK_A,
-    BLK_C,
-    BLK_CUM_ADM,
-    BLK_CUM_DOSE,
-    BLK_CUM_ICU,
-    BLK_CUM_INF,
-    BLK_CUM_ONSET,
-    BLK_D,
-    BLK_E,
-    BLK_EV,
-    BLK_ICU_DAYS,
-    BLK_P,
-    BLK_R,
-    BLK_S,
-    BLK_V,
-    BLK_V0,
-    BLK_W,
-    BLK_WARD_DAYS,
-    BLK_Y,
-    IT_ISO_SYMPTOMATIC,
-    IT_MULTIPLIER,
-    IT_SCHOOL_CLOSURE,
-    KIND_CONTACTS,
-    KIND_ISOLATION,
-)
 from prepkit.simulation.simulate import Trajectory, simulate
 from prepkit.simulation.transmissibility import Transmissibility
 
@@ -80,6 +44,7 @@ __all__ = [
 ]
 
 Variant = Literal["with", "without"]
+Item = TypeVar("Item")
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -138,8 +103,31 @@ class ScenarioResults:
         return self.with_interventions if name == "with" else self.without_interventions
 
 
+class ByScenario(Generic[Item]):
+    """Items in plan order, one per scenario, looked up by scenario name."""
+
+    scenarios: tuple[Item, ...]
+
+    @staticmethod
+    def name_of(item: Item) -> str:
+        """Scenario name of an item."""
+        raise NotImplementedError
+
+    def __getitem__(self, name: str) -> Item:
+        for item in self.scenarios:
+            if self.name_of(item) == name:
+                return item
+        raise KeyError(name)
+
+    def __iter__(self) -> Iterator[Item]:
+        return iter(self.scenarios)
+
+    def __len__(self) -> int:
+        return len(self.scenarios)
+
+
 @dataclass(frozen=True, kw_only=True, eq=False)
-class PlanResults:
+class PlanResults(ByScenario[ScenarioResults]):
     """Every scenario of a plan, with and without interventions.
 
     Attributes
@@ -154,17 +142,10 @@ class PlanResults:
     scenarios: tuple[ScenarioResults, ...]
     transmissibility_by_level: Mapping[Level, Transmissibility]
 
-    def __getitem__(self, name: str) -> ScenarioResults:
-        for item in self.scenarios:
-            if item.scenario.name == name:
-                return item
-        raise KeyError(name)
-
-    def __iter__(self) -> Iterator[ScenarioResults]:
-        return iter(self.scenarios)
-
-    def __len__(self) -> int:
-        return len(self.scenarios)
+    @staticmethod
+    def name_of(item: ScenarioResults) -> str:
+        """Scenario name of an item."""
+        return item.scenario.name
 
 
 def _scenario(plan: Plan, scenario: Scenario | str) -> Scenario:
@@ -326,42 +307,6 @@ def transmissibility_table(plan: Plan) -> dict[Level, Transmissibility]:
     return out
 
 
-def column_slug(name: str) -> str:
-    """Snake-case form of an intervention name for column names."""
-    slug = re.sub(r"[^0-9a-z]+", "_", name.lower()).strip("_")
-    return slug or "unnamed"
-
-
-def _activity_columns(model: CompiledModel, active: NDArray[np.bool_]) -> dict[str, Any]:
-    days = active.shape[0]
-    itab = model.itab
-    columns: dict[str, Any] = {}
-    multipliers = np.ones((days, len(SETTINGS)))
-    school = np.zeros(days)
-    isolation = np.ones(days)
-    for r, _ in enumerate(model.intervention_names):
-        on = active[:, r]
-        kind = int(itab[r, 0])
-        if kind == KIND_CONTACTS:
-            rows = itab[r, IT_MULTIPLIER : IT_MULTIPLIER + len(SETTINGS)]
-            multipliers = np.where(on[:, None], multipliers * rows[None, :], multipliers)
-            school = np.where(on, np.maximum(school, itab[r, IT_SCHOOL_CLOSURE]), school)
-        elif kind == KIND_ISOLATION:
-            isolation = np.where(on, isolation * itab[r, IT_ISO_SYMPTOMATIC], isolation)
-    for s, setting in enumerate(SETTINGS):
-        columns[f"contacts_multiplier_{setting}"] = multipliers[:, s]
-    columns["school_closure_intensity_share"] = school
-    columns["isolation_multiplier_symptomatic"] = isolation
-    used: set[str] = set()
-    for r, name in enumerate(model.intervention_names):
-        key = f"active_{column_slug(name)}"
-        while key in used:
-            key += "_"
-        used.add(key)
-        columns[key] = active[:, r].copy()
-    return columns
-
-
 def build_run(
     plan: Plan,
     scenario: Scenario,
@@ -389,84 +334,7 @@ def build_run(
     ScenarioRun
         The assembled run.
     """
-    layout = model.layout
-    states = trajectory.states
-    days = states.shape[0] - 1
-    dates = pd.date_range(pd.Timestamp(plan.details.day0), periods=days, freq="D", name="date")
-
-    def band(block: int) -> NDArray[np.float64]:
-        return layout.block_total(states, block)
-
-    def flow(block: int) -> NDArray[np.float64]:
-        return np.diff(band(block), axis=0)
-
-    flows = {
-        "infections_per_day": flow(BLK_CUM_INF),
-        "symptomatic_onsets_per_day": flow(BLK_CUM_ONSET),
-        "admissions_per_day": flow(BLK_CUM_ADM),
-        "icu_admissions_per_day": flow(BLK_CUM_ICU),
-        "hospital_deaths_per_day": flow(BLK_D),
-        "doses_per_day": flow(BLK_CUM_DOSE),
-    }
-    stocks = {
-        "susceptible_persons": band(BLK_S)[1:],
-        "dosed_unprotected_persons": band(BLK_V0)[1:],
-        "protected_persons": band(BLK_V)[1:],
-        "latent_persons": (band(BLK_E) + band(BLK_EV))[1:],
-        "asymptomatic_infectious_persons": band(BLK_A)[1:],
-        "symptomatic_at_home_persons": band(BLK_Y)[1:],
-        "waiting_for_admission_persons": band(BLK_P)[1:],
-        "ward_census_persons": band(BLK_W)[1:],
-        "icu_census_persons": band(BLK_C)[1:],
-        "recovered_persons": band(BLK_R)[1:],
-        "cumulative_infections_persons": band(BLK_CUM_INF)[1:],
-        "cumulative_symptomatic_persons": band(BLK_CUM_ONSET)[1:],
-        "cumulative_admissions_persons": band(BLK_CUM_ADM)[1:],
-        "cumulative_icu_admissions_persons": band(BLK_CUM_ICU)[1:],
-        "cumulative_hospital_deaths_persons": band(BLK_D)[1:],
-        "cumulative_doses": band(BLK_CUM_DOSE)[1:],
-    }
-    columns: dict[str, Any] = {key: value.sum(axis=1) for key, value in flows.items()}
-    columns.update({key: value.sum(axis=1) for key, value in stocks.items()})
-    columns["season_multiplier"] = np.array([model.season(float(d)) for d in range(days)])
-    columns.update(_activity_columns(model, trajectory.active))
-    daily = pd.DataFrame(columns, index=dates)
-    daily = add_capacity_columns(daily, plan.capacity)
-    daily = add_absence_columns(
-        daily,
-        flows["symptomatic_onsets_per_day"],
-        model.population,
-        plan.bands,
-        plan.workforce,
-    )
-
-    labels = [b.label for b in plan.bands]
-    nb = len(labels)
-    long: dict[str, Any] = {
-        "date": np.repeat(dates.to_numpy(), nb),
-        "band": np.tile(np.array(labels, dtype=object), days),
-    }
-    for key, value in {**flows, **stocks}.items():
-        long[key] = value.reshape(-1)
-    by_band = pd.DataFrame(long)
-
-    final = states[-1]
-    finals = {
-        "infections_persons": final[layout.stage(BLK_CUM_INF)],
-        "symptomatic_cases_persons": final[layout.stage(BLK_CUM_ONSET)],
-        "admissions_persons": final[layout.stage(BLK_CUM_ADM)],
-        "icu_admissions_persons": final[layout.stage(BLK_CUM_ICU)],
-        "hospital_deaths_persons": final[layout.stage(BLK_D)],
-        "doses_given_doses": final[layout.stage(BLK_CUM_DOSE)],
-        "ward_bed_days": final[layout.stage(BLK_WARD_DAYS)],
-        "icu_bed_days": final[layout.stage(BLK_ICU_DAYS)],
-    }
-    totals = BurdenTotals(**{k: float(v.sum()) for k, v in finals.items()})
-    by_label = {
-        label: BurdenTotals(**{k: float(v[i]) for k, v in finals.items()})
-        for i, label in enumerate(labels)
-    }
-    metrics = scenario_metrics(daily, totals, by_label, plan.population, plan.capacity)
+    daily, by_band, metrics = run_outputs(plan, model, trajectory)
     return ScenarioRun(
         scenario=scenario.name,
         variant="with" if model.with_interventions else "without",

@@ -30,7 +30,6 @@ Equations in words
 from __future__ import annotations
 
 import datetime as dt
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -100,16 +99,14 @@ from prepkit.simulation.layout import (
     scalar_offset,
 )
 from prepkit.simulation.natural_history import isolation_multiplier
+from prepkit.simulation.next_generation import beta_for_targets
+from prepkit.simulation.protected_admission import protected_admitted_share
 from prepkit.simulation.transmissibility import (
-    NOBODY_INFECTS,
     Transmissibility,
-    beta_for_growth_rate,
-    beta_for_r0,
     doubling_time,
     growth_rate,
     mean_generation_time,
     reproduction_number,
-    transmission_is_finite,
 )
 
 DEFAULT_SUBSTEPS = 4
@@ -292,10 +289,7 @@ def compile_model(
 
     p_sym = np.array(inputs.symptomatic_share, dtype=np.float64)
     h = np.minimum(np.array(inputs.admitted_share, dtype=np.float64), p_sym)
-    if ve_inf >= 1.0:
-        hv = np.zeros(nb)
-    else:
-        hv = np.minimum(p_sym, h * (1.0 - ve_sev) / (1.0 - ve_inf))
+    hv = protected_admitted_share(p_sym, h, ve_inf, ve_sev)
     wait_days = np.array(severity.onset_to_admission_days, dtype=np.float64)
     ward_days = np.array(inputs.ward_stay_days, dtype=np.float64)
     icu_days = np.array(inputs.icu_stay_days, dtype=np.float64)
@@ -336,16 +330,10 @@ def compile_model(
     pc[mo:] = setting_matrices(plan.contacts, pop).ravel()
 
     measure, value = inputs.transmissibility_measure, inputs.transmissibility_value
-    if measure == "r0":
-        beta = beta_for_r0(value, pc, layout)
-    elif measure == "growth_rate":
-        beta = beta_for_growth_rate(value, pc, layout)
-    else:
-        if value <= 0.0:
-            raise ModelError(f"doubling time must be positive, found {value:.4g} days")
-        beta = beta_for_growth_rate(math.log(2.0) / value, pc, layout)
-    if not transmission_is_finite(beta, pc, layout):
-        raise ModelError(NOBODY_INFECTS)
+    beta = float(beta_for_targets(
+        pc, layout, measure, [value],
+        p_sym[None, :], h[None, :], [pc[sc + S_LATENT_RATE]], [pc[sc + S_INFECTIOUS_RATE]],
+    )[0])
     pc[sc + S_BETA] = beta
     pc[sc + S_GROWTH_BOUND] = float(growth_bound(
         measure, value,

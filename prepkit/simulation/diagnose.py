@@ -59,7 +59,7 @@ from prepkit.simulation.layout import (
 from prepkit.simulation.transmissibility import reproduction_number
 
 if TYPE_CHECKING:  # the ensemble module imports this one
-    from prepkit.uncertainty.ensemble import DrawValues
+    from prepkit.uncertainty.draws import DrawValues
 
 TRANSMISSIBILITY_FIELDS = {
     "r0": ("disease.r0", ""),
@@ -348,7 +348,7 @@ def draw_error(
         Compiled central run of the variant.
     plan : Plan
         The plan.
-    part : prepkit.uncertainty.ensemble.DrawValues
+    part : prepkit.uncertainty.draws.DrawValues
         The block of draws that holds the failed one.
     pcs : ndarray, shape (block draws, parameters)
         Their parameter vectors.

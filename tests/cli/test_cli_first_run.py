@@ -68,11 +68,11 @@ def test_an_empty_numba_cache_means_compiling(tmp_path: Path) -> None:
 
 def test_compiled_kernels_mean_no_note(plan_path: Path) -> None:
     from prepkit.scenarios.runs import run_plan
-    from prepkit.uncertainty.run import run_uncertainty
+    from prepkit.uncertainty.plan_runs import run_uncertainty
     from prepkit.workbook import read_plan
 
     plan = read_plan(plan_path)
-    run_uncertainty(plan, run_plan(plan), progress=False)  # every kernel has run in this process
+    run_uncertainty(plan, run_plan(plan))  # every kernel has run in this process
     assert first_use.kernels_need_compiling() is False
     assert first_use.first_use_note() is None
 

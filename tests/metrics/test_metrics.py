@@ -15,17 +15,10 @@ import pandas as pd
 from factories import make_bands, make_capacity
 from numpy.testing import assert_allclose
 
-from prepkit.metrics.core import (
-    add_capacity_columns,
-    days_over_capacity,
-    first_exceedance_date,
-    largest_shortfall,
-    peak,
-    recent_sum,
-    surge_schedule,
-    unmet_bed_days,
-    working_age_weights,
-)
+from prepkit.metrics.absence import recent_sum, working_age_weights
+from prepkit.metrics.beds import days_over_capacity, largest_shortfall, unmet_bed_days
+from prepkit.metrics.capacity import add_capacity_columns, first_exceedance_date, surge_schedule
+from prepkit.metrics.peaks import peak
 from prepkit.plan import AgeBand
 
 DATES = pd.date_range("2025-01-01", periods=6, freq="D", name="date")
@@ -76,6 +69,6 @@ def test_working_age_overlap_and_open_band() -> None:
 
 
 def test_recent_sum_counts_fractional_day() -> None:
-    values = np.array([[1.0], [2.0], [4.0], [8.0]])
-    assert_allclose(recent_sum(values, 2.5)[:, 0], [1.0, 3.0, 6.5, 13.0])
+    values = np.array([[1.0, 2.0, 4.0, 8.0]])  # days on the last axis
+    assert_allclose(recent_sum(values, 2.5)[0], [1.0, 3.0, 6.5, 13.0])
     assert_allclose(recent_sum(values, 0.0), 0.0)

@@ -10,7 +10,7 @@ import pandas as pd
 from conftest import small_plan
 from numpy.testing import assert_allclose
 
-from prepkit.metrics.core import ventilator_metrics
+from prepkit.metrics.capacity import ventilator_metrics
 from prepkit.report import context as words
 from prepkit.scenarios.runs import run_scenario
 

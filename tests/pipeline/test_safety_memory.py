@@ -20,7 +20,7 @@ from prepkit.cli.main import main
 from prepkit.pipeline import guard as pipeline_guard
 from prepkit.pipeline import run as pipeline
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook import schema
 from prepkit.workbook.reader import read_plan
 
@@ -116,10 +116,10 @@ def test_the_estimate_covers_the_memory_the_ensemble_uses(draws: int) -> None:
     # the peak, and stay within three times it so it does not refuse runs that would fit.
     plan = small_plan()
     results = run_plan(plan)
-    run_uncertainty(plan, results, draws=20, progress=False)  # compiled before measuring
+    run_uncertainty(plan, results, draws=20)  # compiled before measuring
     tracemalloc.start()
     try:
-        run_uncertainty(plan, results, draws=draws, progress=False)
+        run_uncertainty(plan, results, draws=draws)
         _current, peak = tracemalloc.get_traced_memory()
     finally:
         tracemalloc.stop()

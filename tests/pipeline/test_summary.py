@@ -7,7 +7,8 @@ import json
 import numpy as np
 from factories import banded_plan
 
-from prepkit.pipeline.summary import jsonable, summary_dict
+from prepkit.base.json_values import jsonable
+from prepkit.pipeline.summary import summary_dict
 from prepkit.scenarios.runs import run_plan
 
 

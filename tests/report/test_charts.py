@@ -24,7 +24,7 @@ from prepkit.report import charts, charts_base
 from prepkit.report import context as words
 from prepkit.report.safety import AssetFetcher
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
 matplotlib.use("Agg")
@@ -120,7 +120,7 @@ def test_month_ticks_carry_the_year_on_the_first_and_on_january() -> None:
 
 def test_uncertainty_charts(setup: Any) -> None:
     plan, results, views = setup
-    ensemble = run_uncertainty(plan, results, draws=16, progress=False)
+    ensemble = run_uncertainty(plan, results, draws=16)
     drawn = charts.draw_uncertainty_charts(plan, views, ensemble, focus=views[0].name)
     assert [c.name for c in drawn] == [
         "uncertainty-exceedance", "uncertainty-bands", "uncertainty-peak-dates",
@@ -265,7 +265,7 @@ def smallest_first() -> Any:
     peaks = [peak(item) for item in results.scenarios]
     # The premise: the first panel's own range is the smallest of all.
     assert peaks[0] < min(peaks[1:]) / 2, peaks
-    ensemble = run_uncertainty(plan, results, draws=24, progress=False)
+    ensemble = run_uncertainty(plan, results, draws=24)
     return plan, results, words.scenario_views(plan, results), ensemble
 
 

@@ -40,7 +40,7 @@ from prepkit.pipeline.pack import render_pack
 from prepkit.report.charts_base import TEXT_BLOCK_HEIGHTS_IN, chart_height
 from prepkit.report.render import templates_dir
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
 SAMPLES = ("vellmora_city.xlsx", "tamsett_hollow.xlsx")
@@ -373,7 +373,7 @@ def packs(tmp_path_factory: pytest.TempPathFactory) -> list[Rendered]:
         for workbook in SAMPLES:
             plan = read_plan(sample_workbook(workbook))
             results = run_plan(plan)
-            ensemble = run_uncertainty(plan, results, progress=False)
+            ensemble = run_uncertainty(plan, results)
             for size in SIZES:
                 sized = dataclasses.replace(
                     plan, details=dataclasses.replace(plan.details, page_size=size)

@@ -21,7 +21,7 @@ from prepkit.pipeline import run as pipeline
 from prepkit.report import context as words
 from prepkit.report.observed import consistent_with
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"

@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 from factories import banded_plan
 
-from prepkit.metrics.core import BedMetrics
+from prepkit.metrics.capacity import BedMetrics
 from prepkit.plan import End, InputRecord, Isolation, Start
 from prepkit.report import context as words
 from prepkit.scenarios.runs import run_plan
@@ -100,7 +100,7 @@ def test_shortfall_adds_up_as_printed(
 def test_bed_sentence_adds_up() -> None:
     import datetime as dt
 
-    from prepkit.metrics.core import BedMetrics
+    from prepkit.metrics.capacity import BedMetrics
 
     fields = {f: 0.0 for f in BedMetrics.__dataclass_fields__}
     fields.update(
@@ -451,7 +451,7 @@ def test_build_context_is_plain_data(small_results: Any) -> None:
 def test_band_columns_name_the_ensemble_columns_for_any_quantiles() -> None:
     # The report reads the columns the ensemble writes, including fractional percentiles.
     from prepkit.report.context import band_columns
-    from prepkit.uncertainty.run import quantile_label
+    from prepkit.uncertainty.results import quantile_label
 
     assert band_columns((0.05, 0.5, 0.95)) == ("q05", "q50", "q95")
     assert band_columns((0.025, 0.5, 0.975)) == (

@@ -35,7 +35,9 @@ from prepkit.report.results_workbook_columns_uncertainty import (
 )
 from prepkit.report.tables import daily_csv
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import SUMMARY_METRICS, run_uncertainty, uncertainty_summary_dict
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import SUMMARY_METRICS
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
 WHEN = dt.datetime(2027, 1, 2, 3, 4, 5, tzinfo=dt.UTC)
 HOSTILE = '=HYPERLINK("http://example.invalid","click")'
@@ -81,8 +83,7 @@ def built_workbook() -> Built:
     """The hostile plan's results.xlsx with every sheet, built once per test session."""
     plan = _hostile_plan()
     results = run_plan(plan)
-    ensemble = run_uncertainty(plan, results, draws=12, quantiles=(0.025, 0.5, 0.9),
-                               progress=False)
+    ensemble = run_uncertainty(plan, results, draws=12, quantiles=(0.025, 0.5, 0.9))
     data = rw.results_workbook_bytes(plan, results, version="9.9", generated=WHEN,
                                      extra_sheets=rw.uncertainty_sheets(ensemble))
     return Built(plan=plan, results=results, ensemble=ensemble, data=data)

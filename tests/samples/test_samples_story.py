@@ -21,7 +21,8 @@ import numpy as np
 import pytest
 
 from prepkit.plan import Intervention, Plan, Scenario
-from prepkit.scenarios.runs import column_slug, run_plan, run_scenario
+from prepkit.scenarios.daily import column_slug
+from prepkit.scenarios.runs import run_plan, run_scenario
 from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
 from prepkit.workbook import read_plan
 from prepkit.workbook.schema import FIELDS_BY_NAME

@@ -9,7 +9,8 @@ from conftest import small_plan
 
 from prepkit.plan import End, Start
 from prepkit.report import context as words
-from prepkit.scenarios.runs import column_slug, run_scenario
+from prepkit.scenarios.daily import column_slug
+from prepkit.scenarios.runs import run_scenario
 
 
 def test_a_measure_is_in_force_from_its_start_date_to_its_end_date_inclusive() -> None:

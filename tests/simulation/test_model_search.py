@@ -55,7 +55,8 @@ from prepkit.simulation.layout import (
 )
 from prepkit.simulation.simulate import simulate, simulate_reference
 from prepkit.simulation.transmissibility import reproduction_number
-from prepkit.uncertainty.ensemble import DrawValues, simulate_draws
+from prepkit.uncertainty.draws import DrawValues
+from prepkit.uncertainty.ensemble import simulate_draws
 from prepkit.workbook.schema import FIELDS_BY_NAME, MAX_BANDS
 
 REFERENCE_ATOL = (1e-30, 1e-20, 1e-12)

@@ -25,26 +25,19 @@ from prepkit.scenarios.runs import compile_scenario, run_plan, run_scenario
 from prepkit.simulation.layout import S_BETA, scalar_offset
 from prepkit.simulation.natural_history import share_before_isolation
 from prepkit.simulation.transmissibility import beta_for_growth_rate, beta_for_r0
-from prepkit.uncertainty.ensemble import (
-    build_parameters,
-    calibrate_beta,
-    shares_before_isolation,
-    simulate_draws,
-)
+from prepkit.uncertainty.ensemble import calibrate_beta, simulate_draws
+from prepkit.uncertainty.parameters import build_parameters, shares_before_isolation
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import quantile_label
 from prepkit.uncertainty.run import (
     draw_values,
-    latin_hypercube,
-    pert_mean,
-    pert_parameters,
-    pert_ppf,
     plan_dimensions,
-    quantile_label,
     run_ensemble,
-    run_uncertainty,
     sample_quantiles,
     scenario_fields,
-    uncertainty_summary_dict,
 )
+from prepkit.uncertainty.sampling import latin_hypercube, pert_mean, pert_parameters, pert_ppf
+from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
 
 def with_draws(plan, draws=40, seed=7, horizon=None):
@@ -370,8 +363,8 @@ def test_run_uncertainty_covers_every_scenario_and_serialises(uncertain_plan):
 
 def test_run_uncertainty_is_reproducible(uncertain_plan):
     plan = with_draws(uncertain_plan, draws=12, horizon=100)
-    a = run_uncertainty(plan, progress=False)
-    b = run_uncertainty(plan, progress=False)
+    a = run_uncertainty(plan)
+    b = run_uncertainty(plan)
     left = a.scenarios[1].with_interventions.per_draw
     right = b.scenarios[1].with_interventions.per_draw
     assert left.equals(right)

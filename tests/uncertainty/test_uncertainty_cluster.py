@@ -15,7 +15,8 @@ from test_uncertainty import uncertain_plan, with_draws  # noqa: F401  (fixture)
 from prepkit.cli.main import main
 from prepkit.pipeline import ensemble
 from prepkit.scenarios.runs import run_plan
-from prepkit.uncertainty.run import UncertaintyResults, run_uncertainty
+from prepkit.uncertainty.plan_runs import run_uncertainty
+from prepkit.uncertainty.results import UncertaintyResults
 
 
 def _assert_same(a: UncertaintyResults, b: UncertaintyResults) -> None:
@@ -32,7 +33,7 @@ def _assert_same(a: UncertaintyResults, b: UncertaintyResults) -> None:
 def test_executor_gives_the_same_results_as_running_here(uncertain_plan):  # noqa: F811
     plan = with_draws(uncertain_plan, draws=16, horizon=90)
     results = run_plan(plan)
-    here = run_uncertainty(plan, results, progress=False)
+    here = run_uncertainty(plan, results)
     seen: list[tuple[int, int]] = []
     with ThreadPoolExecutor(max_workers=2) as pool:
         there = run_uncertainty(plan, results, progress=lambda d, t: seen.append((d, t)),
@@ -44,11 +45,11 @@ def test_executor_gives_the_same_results_as_running_here(uncertain_plan):  # noq
 def test_dask_cluster_gives_the_same_results(uncertain_plan):  # noqa: F811
     distributed = pytest.importorskip("dask.distributed")
     plan = with_draws(uncertain_plan, draws=8, horizon=60)
-    here = run_uncertainty(plan, progress=False)
+    here = run_uncertainty(plan)
     with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
                                   dashboard_address=None) as cluster, \
             distributed.Client(cluster) as client:
-        there = run_uncertainty(plan, progress=False, executor=client.get_executor())
+        there = run_uncertainty(plan, executor=client.get_executor())
     _assert_same(here, there)
 
 

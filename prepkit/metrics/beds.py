@@ -1,0 +1,192 @@
+"""Bed rules shared by the single run and the ensemble: available beds, surge, shortfalls.
+
+Every function takes one daily series or a draws x days array and works on
+the last axis (days); stocks are end-of-day values, one value per day.
+
+* Outbreak bed demand = catchment share x residents' census [beds].
+* Available beds = staffed beds x (1 - baseline occupancy) [beds]; with
+  surge, the surge beds are added from their opening day on.
+* Surge beds of a type open ``ceil(days_to_open)`` days after the first day
+  on which demand reaches ``surge_trigger_occupancy`` of the available
+  (non-surge) beds, and stay open.
+* Unmet bed-days = sum over days of ``max(0, demand - available)`` x 1 day
+  (daily resolution); the largest shortfall is its daily maximum.
+
+References
+----------
+Hick J.L., Barbera J.A., Kelen G.D. (2009). Refining surge capacity:
+conventional, contingency, and crisis capacity. Disaster Med. Public
+Health Prep. 3(Suppl 1):S59-S67 (surge beds as a separate tier).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from prepkit.plan import Capacity
+
+BED_KINDS: tuple[str, ...] = ("ward", "icu")
+"""Bed types, in the order of every per-type table."""
+
+
+def bed_supply(capacity: Capacity) -> dict[str, tuple[float, float]]:
+    """Beds available to outbreak patients and surge beds of each type [beds].
+
+    Parameters
+    ----------
+    capacity : Capacity
+        Hospital capacity of the plan.
+
+    Returns
+    -------
+    dict
+        ``{"ward": (available, surge), "icu": (available, surge)}`` with
+        available = staffed beds x (1 - baseline occupancy) [beds].
+    """
+    return {
+        "ward": (
+            float(capacity.ward_beds) * (1.0 - capacity.ward_baseline_occupancy),
+            float(capacity.surge_ward_beds),
+        ),
+        "icu": (
+            float(capacity.icu_beds) * (1.0 - capacity.icu_baseline_occupancy),
+            float(capacity.surge_icu_beds),
+        ),
+    }
+
+
+def outbreak_demand(census: ArrayLike, capacity: Capacity) -> NDArray[np.float64]:
+    """Outbreak bed demand = catchment share x residents' census [beds]."""
+    return np.asarray(census, dtype=np.float64) * capacity.catchment_share
+
+
+def surge_opening(
+    demand: ArrayLike, available: float, surge: float, trigger_share: float, days_to_open: float
+) -> tuple[NDArray[np.int64], NDArray[np.int64]]:
+    """Day the surge trigger is reached and day the surge beds open.
+
+    Parameters
+    ----------
+    demand : array, shape (..., days)
+        Daily outbreak bed demand [beds].
+    available : float
+        Available beds without surge [beds].
+    surge : float
+        Surge beds of this type [beds].
+    trigger_share : float
+        Demand as a share of available beds that starts opening [fraction];
+        with no available beds, any demand triggers.
+    days_to_open : float
+        Days from the trigger until the beds are usable [days]; rounded up.
+
+    Returns
+    -------
+    trigger_day, open_day : ndarray of int, shape (...)
+        Day index of the trigger (-1 when never reached) and of the opening
+        (-1 when never reached or without surge beds; may be past the last
+        day).
+    """
+    values = np.asarray(demand, dtype=np.float64)
+    if available <= 0.0:
+        reached = values > 0.0
+    else:
+        reached = values >= trigger_share * available
+    hit = reached.any(axis=-1)
+    first = np.argmax(reached, axis=-1) if reached.shape[-1] else np.zeros(hit.shape, int)
+    trigger_day = np.where(hit, first, -1)
+    opening = first + int(math.ceil(max(days_to_open, 0.0)))
+    open_day = np.where(hit & (surge > 0.0), opening, -1)
+    return np.asarray(trigger_day, dtype=np.int64), np.asarray(open_day, dtype=np.int64)
+
+
+def surge_available(
+    demand: ArrayLike, available: float, surge: float, trigger_share: float, days_to_open: float
+) -> NDArray[np.float64]:
+    """Available beds each day, surge beds included once open [beds], shaped as ``demand``.
+
+    The trigger and opening rule is :func:`surge_opening`.
+    """
+    values = np.asarray(demand, dtype=np.float64)
+    _, open_day = surge_opening(values, available, surge, trigger_share, days_to_open)
+    days = values.shape[-1]
+    start = np.where(open_day >= 0, open_day, days)
+    open_now = np.arange(days) >= np.asarray(start)[..., None]
+    return np.asarray(available + surge * open_now, dtype=np.float64)
+
+
+def over_capacity(demand: ArrayLike, available: ArrayLike) -> NDArray[np.bool_]:
+    """True on the days demand is above the available beds."""
+    return np.asarray(np.asarray(demand, dtype=np.float64) > np.asarray(available), dtype=bool)
+
+
+def unmet_beds(demand: ArrayLike, available: ArrayLike) -> NDArray[np.float64]:
+    """Daily shortfall ``max(0, demand - available)`` [beds]."""
+    gap = np.asarray(demand, dtype=np.float64) - np.asarray(available, dtype=np.float64)
+    return np.asarray(np.clip(gap, 0.0, None), dtype=np.float64)
+
+
+def days_over_capacity(demand: ArrayLike, available: ArrayLike) -> Any:
+    """Number of days demand is above the available beds [days] (per row of an array)."""
+    return over_capacity(demand, available).sum(axis=-1)
+
+
+def unmet_bed_days(demand: ArrayLike, available: ArrayLike) -> Any:
+    """Sum of the daily shortfall x 1 day [bed-days] (per row of an array)."""
+    return unmet_beds(demand, available).sum(axis=-1)
+
+
+def largest_shortfall(demand: ArrayLike, available: ArrayLike) -> Any:
+    """Largest daily shortfall [beds] (per row of an array; 0 without days)."""
+    short = unmet_beds(demand, available)
+    if short.shape[-1] == 0:
+        return np.zeros(short.shape[:-1])
+    return short.max(axis=-1)
+
+
+def first_over_day(demand: ArrayLike, available: ArrayLike) -> Any:
+    """First day index demand is above the available beds, -1 when never (per row)."""
+    over = over_capacity(demand, available)
+    if over.shape[-1] == 0:
+        return np.full(over.shape[:-1], -1)
+    return np.where(over.any(axis=-1), np.argmax(over, axis=-1), -1)
+
+
+def bed_loads(
+    demand: ArrayLike, available: float, surge: float, trigger_share: float, days_to_open: float
+) -> dict[str, Any]:
+    """Days over capacity and unmet bed-days without and with surge beds.
+
+    Parameters
+    ----------
+    demand : array, shape (..., days)
+        Daily outbreak bed demand [beds].
+    available, surge : float
+        Available (non-surge) and surge beds [beds].
+    trigger_share, days_to_open : float
+        Surge trigger [fraction] and opening delay [days].
+
+    Returns
+    -------
+    dict
+        ``over`` and ``over_surge`` (bool, shaped as ``demand``),
+        ``days_over`` and ``days_over_surge`` [days], ``unmet`` and
+        ``unmet_surge`` [bed-days] (one per row), and ``with_surge`` (the
+        available beds each day with surge [beds]).
+    """
+    values = np.asarray(demand, dtype=np.float64)
+    with_surge = surge_available(values, available, surge, trigger_share, days_to_open)
+    over = over_capacity(values, available)
+    over_surge = over_capacity(values, with_surge)
+    return {
+        "with_surge": with_surge,
+        "over": over,
+        "over_surge": over_surge,
+        "days_over": over.sum(axis=-1),
+        "days_over_surge": over_surge.sum(axis=-1),
+        "unmet": unmet_bed_days(values, available),
+        "unmet_surge": unmet_bed_days(values, with_surge),
+    }
