@@ -24,6 +24,10 @@ number of workers. Usage::
 
     .venv/bin/python benchmarks/fuzz_pipeline.py --count 2000 --workers 2 --seed 20270101
 
+``--first K`` starts at case K, so a long run can be split over several sittings: runs of
+``--first 0 --count 5000`` and ``--first 5000 --count 5000`` cover the same 10,000 workbooks
+as one run of ``--count 10000``.
+
 The last line reads ``fuzz: workbooks=<n> read_ok=.. refused=.. model_ok=..
 model_refused=.. tracebacks=.. hangs=.. nonfinite=.. nonconserved=.. seconds=..``.
 """
@@ -168,8 +172,8 @@ def _serve(conn: Any, settings: Settings) -> None:
             pass  # the parent stopped; so do we
 
 
-def run_cases(settings: Settings, count: int, workers: int, on_result: OnResult) -> None:
-    """Run cases 0 .. count-1, in this process (``workers=0``) or in worker processes.
+def run_cases(settings: Settings, cases: range, workers: int, on_result: OnResult) -> None:
+    """Run the cases numbered in ``cases``, in this process (``workers=0``) or in worker processes.
 
     In this process the time limit is applied after the fact (a case over it
     counts as a hang); in workers, an overdue case is killed at the limit.
@@ -177,11 +181,11 @@ def run_cases(settings: Settings, count: int, workers: int, on_result: OnResult)
     if workers <= 0:
         bases = load_bases(settings.bases, ROOT / "sample_workbooks")
         with tempfile.TemporaryDirectory(prefix="prepkit-fuzz-") as tmp:
-            for index in range(count):
+            for index in cases:
                 case = make_case(settings, bases, index)
                 on_result(index, run_case(case, settings, Path(tmp)), _tags(case))
         return
-    _Pool(settings, workers).run(count, on_result)
+    _Pool(settings, workers).run(cases, on_result)
 
 
 @dataclass
@@ -209,9 +213,9 @@ class _Pool:
         child.close()
         return _Worker(process=process, conn=parent)
 
-    def run(self, count: int, on_result: OnResult) -> None:
-        todo: Iterator[int] = iter(range(count))
-        unassigned = left = count
+    def run(self, cases: range, on_result: OnResult) -> None:
+        todo: Iterator[int] = iter(cases)
+        unassigned = left = len(cases)
         try:
             while left:
                 while len(self.workers) < min(self.size, unassigned):
@@ -276,8 +280,11 @@ class _Pool:
 
 
 def fuzz(settings: Settings, count: int, workers: int,
-         progress: Callable[[Tally], None] | None = None) -> Tally:
-    """Run ``count`` cases and count what happened."""
+         progress: Callable[[Tally], None] | None = None, first: int = 0) -> Tally:
+    """Run ``count`` cases from case number ``first`` on and count what happened.
+
+    Runs over consecutive ranges of one seed add up to one run over their union.
+    """
     tally = Tally()
     started = time.perf_counter()
 
@@ -287,7 +294,7 @@ def fuzz(settings: Settings, count: int, workers: int,
         if progress is not None:
             progress(tally)
 
-    run_cases(settings, count, workers, on_result)
+    run_cases(settings, range(first, first + count), workers, on_result)
     tally.seconds = time.perf_counter() - started
     return tally
 
@@ -298,6 +305,8 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=(__doc__ or "").splitlines()[0])
     parser.add_argument("--count", type=int, default=2000, help="mutated workbooks to try")
     parser.add_argument("--seed", type=int, default=20270101, help="random seed")
+    parser.add_argument("--first", type=int, default=0,
+                        help="number of the first case (to continue an earlier run of the seed)")
     parser.add_argument("--workers", type=int, default=2,
                         help="worker processes (0 runs every case in this process)")
     parser.add_argument("--timeout", type=float, default=120.0,
@@ -320,7 +329,7 @@ def main(argv: list[str] | None = None) -> int:
             print(f"... {done} of {args.count}: {tally.last_line()[6:]}", file=sys.stderr,
                   flush=True)
 
-    tally = fuzz(settings, args.count, args.workers, progress)
+    tally = fuzz(settings, args.count, args.workers, progress, first=args.first)
     print("\n".join(tally.report(settings, args.workers)))
     return 1 if tally.tracebacks or tally.hangs or tally.nonfinite or tally.nonconserved else 0
 
