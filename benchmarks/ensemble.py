@@ -64,11 +64,11 @@ from prepkit.simulation.kernels import decide_day, rhs  # noqa: E402
 from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
 from prepkit.simulation.simulate import simulate_reference  # noqa: E402
 from prepkit.uncertainty.ensemble import simulate_draws, use_all_cores  # noqa: E402
+from prepkit.uncertainty.fields import sample_quantiles  # noqa: E402
 from prepkit.uncertainty.run import (  # noqa: E402
     draw_values,
     run_ensemble,
     run_uncertainty,
-    sample_quantiles,
     uncertainty_summary_dict,
 )
 

@@ -74,15 +74,13 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 from numpy.typing import NDArray
-from scipy.special import betaincinv
-from scipy.stats import qmc
 
 from prepkit.errors import ModelError
 from prepkit.metrics.core import recent_sum
-from prepkit.plan import Level, Plan, Range3, Scenario
+from prepkit.plan import Plan, Scenario
 from prepkit.scenarios.runs import PlanResults, ScenarioRun, compile_scenario
 from prepkit.simulation.compile import CompiledModel
-from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL, validate_plan
+from prepkit.simulation.inputs import validate_plan
 from prepkit.uncertainty.ensemble import (
     DEFAULT_BLOCKS,
     ENSEMBLE_MIN_SUBSTEPS,
@@ -90,37 +88,30 @@ from prepkit.uncertainty.ensemble import (
     DrawSeries,
     DrawValues,
     employed_weights,
-    in_threads,
     simulate_draws,
+)
+from prepkit.uncertainty.fields import (
+    UncertainField,
+    plan_dimensions,
+    sample_quantiles,
+    scenario_fields,
 )
 
 __all__ = [
     "DEFAULT_QUANTILES",
-    "PERT_LAMBDA",
     "SUMMARY_METRICS",
     "EnsembleResult",
     "ScenarioUncertainty",
-    "UncertainField",
     "UncertaintyResults",
     "draw_values",
-    "latin_hypercube",
-    "pert_mean",
-    "pert_parameters",
-    "pert_ppf",
-    "plan_dimensions",
     "quantile_label",
     "run_ensemble",
     "run_uncertainty",
-    "sample_quantiles",
-    "scenario_fields",
     "uncertainty_summary_dict",
 ]
 
 Variant = Literal["with", "without"]
 Progress = Callable[[int, int], None] | bool | None
-
-PERT_LAMBDA = 4.0
-"""Shape parameter of the beta-PERT distribution (Malcolm et al. 1959; Vose 2008)."""
 
 DEFAULT_QUANTILES: tuple[float, ...] = (0.05, 0.5, 0.95)
 """Quantiles reported by default (the median is always added)."""
@@ -170,341 +161,6 @@ PEAK_SERIES: tuple[str, ...] = ("ward_demand", "icu_demand", "admissions")
 
 
 # --------------------------------------------------------------------------- sampling
-
-
-def pert_parameters(
-    low: NDArray[np.float64] | float,
-    mode: NDArray[np.float64] | float,
-    high: NDArray[np.float64] | float,
-    lam: float = PERT_LAMBDA,
-) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-    """Beta shape parameters of a PERT distribution.
-
-    Parameters
-    ----------
-    low, mode, high : float or ndarray
-        Range and most likely value [unit of the quantity], ``low < high``.
-    lam : float
-        Shape parameter; 4 gives the classical PERT.
-
-    Returns
-    -------
-    alpha, beta : ndarray
-        ``alpha = 1 + lam (c - a) / (b - a)``, ``beta = 1 + lam (b - c) / (b - a)``
-        [dimensionless].
-
-    References
-    ----------
-    Malcolm D.G., Roseboom J.H., Clark C.E., Fazar W. (1959). Operations
-    Research 7:646-669. Vose D. (2008). Risk Analysis, 3rd ed., Wiley
-    (modified PERT; from memory).
-    """
-    a = np.asarray(low, dtype=np.float64)
-    c = np.asarray(mode, dtype=np.float64)
-    b = np.asarray(high, dtype=np.float64)
-    width = b - a
-    return 1.0 + lam * (c - a) / width, 1.0 + lam * (b - c) / width
-
-
-def pert_mean(
-    low: NDArray[np.float64] | float,
-    mode: NDArray[np.float64] | float,
-    high: NDArray[np.float64] | float,
-) -> NDArray[np.float64]:
-    """Mean of a PERT distribution ``(a + 4 c + b) / 6`` [unit of the quantity].
-
-    References
-    ----------
-    Malcolm D.G., Roseboom J.H., Clark C.E., Fazar W. (1959). Operations
-    Research 7:646-669 (the PERT mean estimate).
-    """
-    a = np.asarray(low, dtype=np.float64)
-    return np.asarray((a + 4.0 * np.asarray(mode) + np.asarray(high)) / 6.0, dtype=np.float64)
-
-
-def pert_ppf(
-    u: NDArray[np.float64],
-    low: NDArray[np.float64] | float,
-    mode: NDArray[np.float64] | float,
-    high: NDArray[np.float64] | float,
-    lam: float = PERT_LAMBDA,
-) -> NDArray[np.float64]:
-    """Inverse distribution function of a PERT distribution (point mass when low = high).
-
-    Parameters
-    ----------
-    u : ndarray, shape (draws,)
-        Quantiles in (0, 1) [fraction].
-    low, mode, high : float or ndarray, shape (k,)
-        Range and mode [unit of the quantity]; arrays give one column per
-        entry, all sharing the quantile ``u`` (comonotone).
-    lam : float
-        PERT shape parameter.
-
-    Returns
-    -------
-    ndarray, shape (draws,) or (draws, k)
-        Values [unit of the quantity].
-
-    Raises
-    ------
-    ModelError
-        When ``low <= mode <= high`` does not hold.
-
-    References
-    ----------
-    Malcolm D.G., Roseboom J.H., Clark C.E., Fazar W. (1959). Operations
-    Research 7:646-669. Vose D. (2008). Risk Analysis, 3rd ed., Wiley
-    (from memory).
-    """
-    a = np.atleast_1d(np.asarray(low, dtype=np.float64))
-    c = np.atleast_1d(np.asarray(mode, dtype=np.float64))
-    b = np.atleast_1d(np.asarray(high, dtype=np.float64))
-    if np.any(a > c) or np.any(c > b):
-        raise ModelError(
-            f"a range needs Low <= Central <= High; found {a.tolist()}, {c.tolist()}, {b.tolist()}"
-        )
-    q = np.asarray(u, dtype=np.float64)
-    out = np.repeat(c[None, :], q.shape[0], axis=0)
-    spread = b > a
-    if np.any(spread):
-        alpha, beta = pert_parameters(a[spread], c[spread], b[spread], lam)
-        # Bands often share one shape (ranges scaled alike): invert each distinct
-        # shape once, then rescale to each band's range.
-        shapes, which = np.unique(np.stack([alpha, beta], axis=1), axis=0, return_inverse=True)
-        # draws split between threads (the inversion releases the GIL); element by element,
-        # so the numbers are those of one call
-        count = max(1, min(q.shape[0] * shapes.shape[0] // 4096, os.cpu_count() or 1))
-        edges = np.linspace(0, q.shape[0], count + 1).astype(int)
-        parts = [slice(lo, hi) for lo, hi in zip(edges[:-1], edges[1:], strict=True)]
-        got = in_threads(
-            lambda rows: betaincinv(shapes[None, :, 0], shapes[None, :, 1], q[rows, None]), parts
-        )
-        x = np.concatenate(got, axis=0)[:, which.ravel()]
-        out[:, spread] = a[spread] + x * (b[spread] - a[spread])
-    if np.ndim(low) == 0 and np.ndim(mode) == 0 and np.ndim(high) == 0:
-        return np.asarray(out[:, 0], dtype=np.float64)
-    return np.asarray(out, dtype=np.float64)
-
-
-def latin_hypercube(draws: int, dimensions: int, seed: int) -> NDArray[np.float64]:
-    """Latin hypercube sample on the unit cube.
-
-    Parameters
-    ----------
-    draws : int
-        Number of points [count].
-    dimensions : int
-        Number of dimensions [count].
-    seed : int
-        Random seed.
-
-    Returns
-    -------
-    ndarray, shape (draws, dimensions)
-        Each column has exactly one point in each of the ``draws`` equal
-        strata of (0, 1), placed at random within it [fraction].
-
-    References
-    ----------
-    McKay M.D., Beckman R.J., Conover W.J. (1979). Technometrics
-    21:239-245. doi:10.2307/1268522
-    """
-    if dimensions == 0:
-        return np.zeros((draws, 0))
-    sampler = qmc.LatinHypercube(d=dimensions, seed=seed)
-    return np.asarray(sampler.random(draws), dtype=np.float64)
-
-
-def _range_at_level(values: Range3, level: Level) -> tuple[float, float, float]:
-    """(low, mode, high) drawn from around a level (see the module notes)."""
-    if level == "low":
-        return values.low, values.low, values.central
-    if level == "high":
-        return values.central, values.high, values.high
-    return values.low, values.central, values.high
-
-
-def _full_range(values: Range3) -> tuple[float, float, float]:
-    return values.low, values.central, values.high
-
-
-@dataclass(frozen=True, kw_only=True, eq=False)
-class UncertainField:
-    """One sampled field of one scenario.
-
-    Attributes
-    ----------
-    key : str
-        Field key, e.g. ``"latent_period_days"`` or
-        ``"compliance[Schools closed]"``; also the Latin hypercube dimension.
-    label : str
-        Plain-words name.
-    unit : str
-        Unit of the values.
-    per_band : bool
-        True for per-band fields (one comonotone quantile for all bands).
-    low, mode, high : ndarray, shape (bands,) or (1,)
-        PERT range and mode the field is drawn from in this scenario.
-    column : int
-        Column of the field in the Latin hypercube sample.
-    """
-
-    key: str
-    label: str
-    unit: str
-    per_band: bool
-    low: NDArray[np.float64]
-    mode: NDArray[np.float64]
-    high: NDArray[np.float64]
-    column: int
-
-    @property
-    def is_point(self) -> bool:
-        """True when every band is fixed (Low = High)."""
-        return bool(np.all(self.low == self.high))
-
-    def values(self, u: NDArray[np.float64]) -> NDArray[np.float64]:
-        """Values at quantiles ``u`` [unit], shape (draws, bands) or (draws,)."""
-        out = pert_ppf(u, self.low, self.mode, self.high)
-        return out if self.per_band else out[:, 0]
-
-
-TRANSMISSIBILITY_LABELS = {
-    "r0": ("Basic reproduction number R0", "dimensionless"),
-    "doubling_time": ("Doubling time", "days"),
-    "growth_rate": ("Growth rate", "1/day"),
-}
-
-
-def plan_dimensions(plan: Plan) -> tuple[str, ...]:
-    """Keys of every field of the plan that can be sampled, in Latin hypercube order.
-
-    Parameters
-    ----------
-    plan : Plan
-        The plan.
-
-    Returns
-    -------
-    tuple of str
-        Disease and severity fields first, then per intervention (plan
-        order) ``compliance[name]`` and, for vaccinations,
-        ``efficacy_infection[name]`` and ``efficacy_severe[name]``. Fixed
-        fields keep their dimension so that adding uncertainty to one field
-        does not change the draws of the others' order.
-    """
-    keys = [
-        "transmissibility",
-        "latent_period_days",
-        "infectious_period_days",
-        "symptomatic_share",
-        "admitted_share",
-        "icu_share",
-        "ward_stay_days",
-        "icu_stay_days",
-    ]
-    for item in plan.interventions:
-        keys.append(f"compliance[{item.name}]")
-        if item.vaccination is not None:
-            keys.append(f"efficacy_infection[{item.name}]")
-            keys.append(f"efficacy_severe[{item.name}]")
-    return tuple(keys)
-
-
-def _transmissibility_range(plan: Plan, level: Level) -> tuple[str, Range3, Level]:
-    disease = plan.disease
-    measure = disease.transmissibility_measure
-    if measure == "r0" and disease.r0 is not None:
-        return measure, disease.r0, level
-    if measure == "doubling_time" and disease.doubling_time_days is not None:
-        return measure, disease.doubling_time_days, DOUBLING_TIME_LEVEL[level]
-    if disease.growth_rate_per_day is None:
-        raise ModelError("disease: none of R0, doubling time and growth rate is given")
-    return "growth_rate", disease.growth_rate_per_day, level
-
-
-def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainField, ...]:
-    """The fields sampled for a scenario, with the range each is drawn from.
-
-    Parameters
-    ----------
-    plan : Plan
-        The plan.
-    scenario : Scenario or str
-        The scenario or its name.
-
-    Returns
-    -------
-    tuple of UncertainField
-        In Latin hypercube column order; point fields included (their
-        ``is_point`` is True). Intervention fields are those of the
-        scenario's interventions.
-    """
-    chosen = plan.scenario(scenario) if isinstance(scenario, str) else scenario
-    columns = {key: i for i, key in enumerate(plan_dimensions(plan))}
-    disease, severity = plan.disease, plan.severity
-    out: list[UncertainField] = []
-
-    def add(key: str, label: str, unit: str, ranges: Sequence[tuple[float, float, float]],
-            per_band: bool) -> None:
-        low, mode, high = (np.array(x, dtype=np.float64) for x in zip(*ranges, strict=True))
-        out.append(UncertainField(key=key, label=label, unit=unit, per_band=per_band, low=low,
-                                  mode=mode, high=high, column=columns[key]))
-
-    measure, values, level = _transmissibility_range(plan, chosen.transmissibility_level)
-    label, unit = TRANSMISSIBILITY_LABELS[measure]
-    add("transmissibility", label, unit, [_range_at_level(values, level)], False)
-    add("latent_period_days", "Latent period", "days",
-        [_full_range(disease.latent_period_days)], False)
-    add("infectious_period_days", "Infectious period", "days",
-        [_full_range(disease.infectious_period_days)], False)
-    add("symptomatic_share", "Symptomatic share", "fraction",
-        [_full_range(x) for x in disease.symptomatic_share], True)
-    sev = chosen.severity_level
-    add("admitted_share", "Admitted share of infections", "fraction",
-        [_range_at_level(x, sev) for x in severity.admitted_share], True)
-    add("icu_share", "ICU share of admissions", "fraction",
-        [_range_at_level(x, sev) for x in severity.icu_share], True)
-    add("ward_stay_days", "Ward length of stay", "days",
-        [_full_range(x) for x in severity.ward_stay_days], True)
-    add("icu_stay_days", "ICU length of stay", "days",
-        [_full_range(x) for x in severity.icu_stay_days], True)
-    vaccine_seen = False
-    for name in chosen.interventions:
-        item = plan.intervention(name)
-        add(f"compliance[{name}]", f"Compliance: {name}", "fraction",
-            [_full_range(item.compliance)], False)
-        if item.vaccination is not None and not vaccine_seen:
-            vaccine_seen = True
-            add(f"efficacy_infection[{name}]", f"Vaccine efficacy against infection: {name}",
-                "fraction", [_full_range(item.vaccination.efficacy_infection)], False)
-            add(f"efficacy_severe[{name}]", f"Vaccine efficacy against admission: {name}",
-                "fraction", [_full_range(item.vaccination.efficacy_severe)], False)
-    return tuple(out)
-
-
-def sample_quantiles(plan: Plan, draws: int, seed: int | None = None) -> NDArray[np.float64]:
-    """The Latin hypercube quantiles of a plan: one column per :func:`plan_dimensions` key.
-
-    Parameters
-    ----------
-    plan : Plan
-        The plan.
-    draws : int
-        Number of draws [count].
-    seed : int, optional
-        Random seed; default ``plan.details.seed``.
-
-    Returns
-    -------
-    ndarray, shape (draws, dimensions)
-        Quantiles in (0, 1) [fraction].
-    """
-    if draws < 1:
-        raise ModelError(f"draws must be at least 1, found {draws}")
-    chosen = plan.details.seed if seed is None else seed
-    return latin_hypercube(int(draws), len(plan_dimensions(plan)), int(chosen))
 
 
 class _ValueCache:

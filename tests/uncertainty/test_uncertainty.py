@@ -31,20 +31,15 @@ from prepkit.uncertainty.ensemble import (
     shares_before_isolation,
     simulate_draws,
 )
+from prepkit.uncertainty.fields import plan_dimensions, sample_quantiles, scenario_fields
 from prepkit.uncertainty.run import (
     draw_values,
-    latin_hypercube,
-    pert_mean,
-    pert_parameters,
-    pert_ppf,
-    plan_dimensions,
     quantile_label,
     run_ensemble,
     run_uncertainty,
-    sample_quantiles,
-    scenario_fields,
     uncertainty_summary_dict,
 )
+from prepkit.uncertainty.sampling import latin_hypercube, pert_mean, pert_parameters, pert_ppf
 
 
 def with_draws(plan, draws=40, seed=7, horizon=None):
