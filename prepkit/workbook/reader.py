@@ -21,40 +21,20 @@ import hashlib
 import os
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any, cast
+from typing import cast
 
 from openpyxl.utils import get_column_letter
 
 from prepkit.errors import Problem, WorkbookError
 from prepkit.plan import (
     LEVELS,
-    SETTINGS,
-    AgeBand,
-    Capacity,
-    Contacts,
-    Details,
-    Disease,
-    End,
-    EndKind,
-    InputRecord,
-    Intervention,
-    InterventionKind,
-    Isolation,
     Level,
-    Observation,
-    PageSize,
     Plan,
-    Range3,
-    Scenario,
     Setting,
-    Severity,
     Source,
-    Start,
-    StartKind,
-    Vaccination,
-    Workforce,
 )
 from prepkit.workbook import schema, validate, validate_plan
+from prepkit.workbook.build import Recorder, build_plan
 from prepkit.workbook.cells import (
     BadValue,
     Got,
@@ -229,7 +209,6 @@ class _Reader:
         self.table_found: dict[str, bool] = {name: False for name in TABLES}
         self.empty_cells: dict[str, str] = {name: "" for name in TABLES}
         self.titles: dict[str, str] = {}
-        self.records: list[tuple[tuple[int, int, int, int], InputRecord]] = []
         self.matrices_intended = False
 
     # -- messages
@@ -341,14 +320,17 @@ class _Reader:
                               "at least one readable age band", "none")]
         if errors or checked is None:
             raise WorkbookError(errors, found_warnings)
-        plan = self.build(checked)
+        rec = Recorder()
+        matrix_values = None if checked.matrices is None else {
+            cast(Setting, setting): matrix.values for setting, matrix in checked.matrices.items()}
+        plan = build_plan(items=self.items, band_rows=checked.bands, per_band=checked.per_band,
+                          matrix_values=matrix_values, tables=self.tables, rec=rec)
         whole = validate_plan.check_plan(
             plan, items=self.items, disease_rows=checked.per_band.get("band_disease", {}),
             scenario_rows=self.tables["scenarios"])
         if whole:
             raise WorkbookError(validate.sort_problems(whole), found_warnings)
-        records = tuple(record for _, record in sorted(self.records, key=lambda x: x[0]))
-        source = Source(path=source.path, sha256=source.sha256, inputs=records)
+        source = Source(path=source.path, sha256=source.sha256, inputs=rec.sorted_records())
         return replace(plan, source=source), found_warnings
 
     def read_sheet(self, sheet: str, grid: Grid | None) -> None:
@@ -674,243 +656,6 @@ class _Reader:
             return None
         return _Checked(bands=band_rows, per_band=per_band, matrices=matrices)
 
-    # -- building the plan
-
-    def use(self, got: Got, unit: str | None = None) -> Any:
-        """Value of an input that the plan uses (recorded for the appendix).
-
-        ``unit`` overrides the field's unit where the row decides it (trigger
-        levels: ``"%"`` of beds or ``"per day"``).
-        """
-        f = got.field
-        if f.type == "choice" and isinstance(got.value, str):
-            shown = schema.choice_shown(f, got.value)
-        elif unit == "%" and isinstance(got.value, int | float):
-            shown = f"{100 * got.value:.4g}%"
-        else:
-            shown = format_value(f, got.value)
-        self.records.append((_record_order(got), InputRecord(
-            sheet=got.sheet, cell=got.cell, name=f.name, label=got.label, value=shown,
-            unit=f.unit if unit is None else unit, defaulted=got.defaulted,
-        )))
-        return got.value
-
-    def use3(self, gots: Mapping[Key, Got], name: str, noun: str = "", key: str = "") -> Range3:
-        """Low / Central / High of an uncertain input (one record)."""
-        low, central, high = (gots[(name, level)] for level in LEVELS)
-        value = Range3(low=_float(low.value), central=_float(central.value),
-                       high=_float(high.value))
-        f = central.field
-        shown = format_value(f, value.central)
-        if not value.is_point:
-            shown += f" (low {format_value(f, value.low)}, high {format_value(f, value.high)})"
-        self.records.append((_record_order(central), InputRecord(
-            sheet=central.sheet, cell=central.cell, name=name, label=field_label(f, None, noun,
-                                                                                 key),
-            value=shown, unit=f.unit, defaulted=central.defaulted,
-        )))
-        return value
-
-    def maybe3(self, gots: Mapping[Key, Got], name: str) -> Range3 | None:
-        if gots[(name, "central")].value is None:
-            return None
-        return self.use3(gots, name)
-
-    def build(self, checked: _Checked) -> Plan:
-        it = self.items
-
-        def item(name: str) -> Any:
-            return self.use(it[(name, "central")])
-
-        details = Details(
-            jurisdiction=item("details.jurisdiction"), title=item("details.title"),
-            prepared_by=item("details.prepared_by"), day0=item("details.day0"),
-            horizon_days=item("details.horizon_days"), draws=item("details.draws"),
-            seed=item("details.seed"), page_size=cast(PageSize, item("details.page_size")),
-        )
-        band_rows = checked.bands
-        bands = tuple(
-            AgeBand(
-                label=str(self.use(row.get("band.label"))),
-                lower_age=self.use(row.get("band.lower_age")),
-                upper_age=self.use(row.get("band.upper_age")),
-                people=float(self.use(row.get("band.people"))),
-                high_risk_share=self.use(row.get("band.high_risk_share")),
-            )
-            for row in band_rows
-        )
-        labels = [b.label for b in bands]
-        contacts = self.build_contacts(checked, labels)
-        drows = [checked.per_band["band_disease"][b] for b in labels]
-        srows = [checked.per_band["band_severity"][b] for b in labels]
-        noun = "band"
-        disease = Disease(
-            r0=self.maybe3(it, "disease.r0"),
-            doubling_time_days=self.maybe3(it, "disease.doubling_time_days"),
-            growth_rate_per_day=self.maybe3(it, "disease.growth_rate_per_day"),
-            latent_period_days=self.use3(it, "disease.latent_period_days"),
-            latent_stages=item("disease.latent_stages"),
-            infectious_period_days=self.use3(it, "disease.infectious_period_days"),
-            infectious_stages=item("disease.infectious_stages"),
-            symptomatic_share=tuple(
-                self.use3(r.gots, "band_disease.symptomatic_share", noun, r.key) for r in drows),
-            asymptomatic_relative_infectiousness=float(
-                item("disease.asymptomatic_relative_infectiousness")),
-            relative_susceptibility=tuple(
-                float(self.use(r.get("band_disease.relative_susceptibility"))) for r in drows),
-            prior_immunity=tuple(
-                float(self.use(r.get("band_disease.prior_immunity"))) for r in drows),
-            seasonal_amplitude=float(item("disease.seasonal_amplitude")),
-            seasonal_peak=self.used_if_given(it[("disease.seasonal_peak", "central")]),
-            initial_infections=float(item("disease.initial_infections")),
-            daily_importations=float(item("disease.daily_importations")),
-        )
-
-        def per_band3(name: str) -> tuple[Range3, ...]:
-            return tuple(self.use3(r.gots, name, noun, r.key) for r in srows)
-
-        def per_band(name: str) -> tuple[float, ...]:
-            return tuple(float(self.use(r.get(name))) for r in srows)
-
-        severity = Severity(
-            admitted_share=per_band3("band_severity.admitted_share"),
-            icu_share=per_band3("band_severity.icu_share"),
-            ward_fatality=per_band("band_severity.ward_fatality"),
-            icu_fatality=per_band("band_severity.icu_fatality"),
-            onset_to_admission_days=per_band("band_severity.onset_to_admission_days"),
-            ward_stay_days=per_band3("band_severity.ward_stay_days"),
-            icu_stay_days=per_band3("band_severity.icu_stay_days"),
-            admission_delay_stages=item("severity.admission_delay_stages"),
-            ward_stages=item("severity.ward_stages"),
-            icu_stages=item("severity.icu_stages"),
-        )
-        capacity = Capacity(
-            ward_beds=item("capacity.ward_beds"), icu_beds=item("capacity.icu_beds"),
-            ventilators=self.used_if_given(it[("capacity.ventilators", "central")]),
-            ventilated_icu_share=float(item("capacity.ventilated_icu_share")),
-            ward_baseline_occupancy=float(item("capacity.ward_baseline_occupancy")),
-            icu_baseline_occupancy=float(item("capacity.icu_baseline_occupancy")),
-            surge_ward_beds=item("capacity.surge_ward_beds"),
-            surge_icu_beds=item("capacity.surge_icu_beds"),
-            surge_days_to_open=float(item("capacity.surge_days_to_open")),
-            surge_trigger_occupancy=float(item("capacity.surge_trigger_occupancy")),
-            catchment_share=float(item("capacity.catchment_share")),
-        )
-        workforce = Workforce(
-            working_age_min=item("workforce.working_age_min"),
-            working_age_max=item("workforce.working_age_max"),
-            employed_share=float(item("workforce.employed_share")),
-            days_absent_per_illness=float(item("workforce.days_absent_per_illness")),
-            carer_share_school_closure=float(item("workforce.carer_share_school_closure")),
-        )
-        interventions = tuple(self.build_measure(row, labels) for row in self.tables["measures"])
-        names = {normalise_key(m.name): m.name for m in interventions}
-        scenarios = tuple(self.build_scenario(row, names) for row in self.tables["scenarios"])
-        observed = tuple(
-            Observation(
-                date=self.use(row.get("observed.date")),
-                admissions=self.used_if_given(row.get("observed.admissions"), float),
-                ward_census=self.used_if_given(row.get("observed.ward_census"), float),
-                icu_census=self.used_if_given(row.get("observed.icu_census"), float),
-            )
-            for row in self.tables["observed"]
-        )
-        return Plan(details=details, bands=bands, contacts=contacts, disease=disease,
-                    severity=severity, capacity=capacity, workforce=workforce,
-                    interventions=interventions, scenarios=scenarios, observed=observed)
-
-    def used_if_given(self, got: Got, kind: Any = None) -> Any:
-        if got.value is None:
-            return None
-        value = self.use(got)
-        return kind(value) if kind is not None else value
-
-    def build_contacts(self, checked: _Checked, labels: Sequence[str]) -> Contacts:
-        assortativity = float(self.use(self.items[("mixing.assortativity", "central")]))
-        if checked.matrices is not None:
-            matrices: dict[Setting, tuple[tuple[float, ...], ...]] = {}
-            for setting in SETTINGS:
-                matrix = checked.matrices[setting]
-                values = matrix.values
-                matrices[setting] = tuple(
-                    tuple(float(self.use(values[(a, b)])) for b in labels) for a in labels)
-            return Contacts(matrices=matrices, assortativity=assortativity)
-        rows = [checked.per_band["band_contacts"][b] for b in labels]
-        return Contacts(
-            mean_daily=tuple(float(self.use(r.get("band_contacts.mean_daily"))) for r in rows),
-            assortativity=assortativity,
-            setting_shares=tuple(
-                {s: float(self.use(r.get(f"band_contacts.{s}_share"))) for s in _SHARE_SETTINGS}
-                for r in rows
-            ),
-        )
-
-    def build_measure(self, row: TableRow, labels: Sequence[str]) -> Intervention:
-        name = str(self.use(row.get("measure.name")))
-        kind = cast(InterventionKind, self.use(row.get("measure.kind")))
-        start_kind = cast(StartKind, self.use(row.get("measure.start_rule")))
-        end_kind = cast(EndKind, self.use(row.get("measure.end_rule")))
-        level_unit = "per day" if start_kind == "admissions" else "%"
-        if start_kind == "date":
-            start = Start(kind="date", date=self.use(row.get("measure.start_date")))
-        else:
-            start = Start(kind=start_kind,
-                          level=float(self.use(row.get("measure.start_level"), level_unit)))
-        if end_kind == "date":
-            end = End(kind="date", date=self.use(row.get("measure.end_date")))
-        elif end_kind == "duration":
-            end = End(kind="duration",
-                      duration_days=float(self.use(row.get("measure.duration_days"))))
-        elif end_kind == "release":
-            end = End(kind="release",
-                      level=float(self.use(row.get("measure.release_level"), level_unit)))
-        else:
-            end = End(kind="horizon")
-        noun, key = "measure", row.key
-        kept: dict[Setting, float] = {}
-        vaccination = None
-        isolation = None
-        if kind == "contacts":
-            for setting in SETTINGS:
-                got = row.get(f"measure.{setting}_kept")
-                if not got.blank:
-                    kept[setting] = float(self.use(got))
-        elif kind == "vaccination":
-            by_key = {normalise_key(b): i for i, b in enumerate(labels)}
-            priority = self.use(row.get("measure.priority"))
-            vaccination = Vaccination(
-                doses_per_day=float(self.use(row.get("measure.doses_per_day"))),
-                priority=tuple(by_key[normalise_key(str(b))] for b in priority),
-                uptake_ceiling=float(self.use(row.get("measure.uptake_ceiling"))),
-                efficacy_infection=self.use3(row.gots, "measure.efficacy_infection", noun, key),
-                efficacy_severe=self.use3(row.gots, "measure.efficacy_severe", noun, key),
-                days_to_protection=float(self.use(row.get("measure.days_to_protection"))),
-            )
-        else:
-            isolation = Isolation(
-                isolated_share=float(self.use(row.get("measure.isolated_share"))),
-                days_from_onset=float(self.use(row.get("measure.days_from_onset"))),
-            )
-        compliance = self.use3(row.gots, "measure.compliance", noun, key)
-        return Intervention(name=name, kind=kind, start=start, end=end, contacts_kept=kept,
-                            vaccination=vaccination, isolation=isolation, compliance=compliance)
-
-    def build_scenario(self, row: TableRow, names: Mapping[str, str]) -> Scenario:
-        listed = self.use(row.get("scenario.interventions"))
-        chosen: list[str] = []
-        for entry in listed:
-            name = names[normalise_key(str(entry))]
-            if name not in chosen:
-                chosen.append(name)
-        return Scenario(
-            name=str(self.use(row.get("scenario.name"))),
-            transmissibility_level=cast(Level,
-                                        self.use(row.get("scenario.transmissibility_level"))),
-            severity_level=cast(Level, self.use(row.get("scenario.severity_level"))),
-            interventions=tuple(chosen),
-            description=str(self.use(row.get("scenario.description"))),
-        )
-
 
 # ---- Helpers ---------------------------------------------------------------------------------
 
@@ -963,14 +708,3 @@ def _default(f: Field) -> object:
 
 def _next_start(starts: Sequence[int], row: int) -> int | None:
     return next((s for s in starts if s > row), None)
-
-
-def _record_order(got: Got) -> tuple[int, int, int, int]:
-    row, col = validate.cell_position(got.cell)
-    level = {"low": 0, "central": 1, "high": 2}[got.level]
-    return (validate.sheet_index(got.sheet), row, col, level)
-
-
-def _float(value: object) -> float:
-    assert isinstance(value, int | float) and not isinstance(value, bool), value
-    return float(value)
