@@ -56,7 +56,8 @@ from prepkit.plan import (
 )
 from prepkit.workbook import schema, validate
 from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key
-from prepkit.workbook.schema import FIELDS, FIELDS_BY_NAME, Field, format_value
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.schema import FIELDS, FIELDS_BY_NAME, format_value
 from prepkit.workbook.targets import Target, parse_target
 
 __all__ = ["SPECIAL_SECTIONS", "Recorder", "build_plan"]

@@ -25,8 +25,10 @@ import math
 import re
 from dataclasses import dataclass
 
+from prepkit.errors import BadValue
 from prepkit.plan import Level
-from prepkit.workbook.schema import MAX_TEXT_LENGTH, Field
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.schema import MAX_TEXT_LENGTH
 
 #: Error values a spreadsheet may store in a cell.
 ERROR_VALUES: frozenset[str] = frozenset(
@@ -87,23 +89,6 @@ class RawCell:
         if self.unresolved or self.error:
             return False
         return self.value is None or (isinstance(self.value, str) and not self.value.strip())
-
-
-class BadValue(Exception):
-    """A cell holds something its field cannot take.
-
-    Attributes
-    ----------
-    found : str
-        What the cell holds, in plain words.
-    expected : str or None
-        Replacement for the field's own description of a good value.
-    """
-
-    def __init__(self, found: str, expected: str | None = None) -> None:
-        super().__init__(found)
-        self.found = found
-        self.expected = expected
 
 
 @dataclass(frozen=True)

@@ -42,25 +42,40 @@ from prepkit.pipeline.outputs import normalise_xlsx, source_date
 from prepkit.plan import Intervention, Level, Plan, Range3
 from prepkit.workbook import schema
 from prepkit.workbook.cells import EARLIEST_DATE, LATEST_DATE, normalise_key
+from prepkit.workbook.field_types import Field, Table
+from prepkit.workbook.instructions import (
+    INSTRUCTIONS_CAUTION,
+    INSTRUCTIONS_HOW,
+    INSTRUCTIONS_HOW_HEADING,
+    INSTRUCTIONS_PURPOSE,
+    INSTRUCTIONS_SHEETS_HEADING,
+    INSTRUCTIONS_TITLE,
+    MATRIX_NOTE,
+    MATRIX_TITLE,
+    NOTE_HELP,
+)
 from prepkit.workbook.schema import (
-    BAND_HEADER,
     FIELDS_BY_NAME,
-    GUIDANCE_HEADER,
-    HIGH_HEADER,
-    ITEM_HEADER,
-    LOW_HEADER,
     MATRIX_FIELDS,
-    MATRIX_SHEETS,
     MAX_BANDS,
     MAX_TEXT_LENGTH,
+    TABLES,
+)
+from prepkit.workbook.sheets import (
+    BAND_HEADER,
+    CENTRAL_HEADER,
+    GUIDANCE_HEADER,
+    HIGH_HEADER,
+    INSTRUCTIONS_SHEET,
+    ITEM_HEADER,
+    LOW_HEADER,
+    MATRIX_SHEETS,
     NOTE_HEADER,
     SHEET_ORDER,
     SHEET_PURPOSE,
-    TABLES,
+    START_CHOICES,
     UNIT_HEADER,
     VALUE_HEADER,
-    Field,
-    Table,
 )
 
 __all__ = ["build_workbook", "write_workbook", "share_format", "HEADER_ROW"]
@@ -157,7 +172,7 @@ def build_workbook(plan: Plan | None = None, notes: Mapping[str, str] | None = N
     first = workbook.active
     assert first is not None
     workbook.remove(first)
-    _write_instructions(workbook.create_sheet(schema.INSTRUCTIONS_SHEET))
+    _write_instructions(workbook.create_sheet(INSTRUCTIONS_SHEET))
     for sheet in SHEET_ORDER:
         ws = workbook.create_sheet(sheet)
         if sheet in MATRIX_SHEETS.values():
@@ -451,7 +466,7 @@ class _Validations:
             self.notes = DataValidation(
                 type="textLength", operator="lessThanOrEqual", formula1=str(MAX_TEXT_LENGTH),
                 allow_blank=True, showInputMessage=True, showErrorMessage=True,
-                errorStyle="warning", promptTitle=NOTE_HEADER, prompt=schema.NOTE_HELP,
+                errorStyle="warning", promptTitle=NOTE_HEADER, prompt=NOTE_HELP,
                 errorTitle=NOTE_HEADER,
                 error=f"Expected some text of at most {MAX_TEXT_LENGTH} characters.",
             )
@@ -551,15 +566,15 @@ def _page(ws: Worksheet, orientation: Literal["portrait", "landscape"]) -> None:
 def _write_instructions(ws: Worksheet) -> None:
     ws.column_dimensions["A"].width = 24
     ws.column_dimensions["B"].width = 100
-    ws.cell(1, 1, schema.INSTRUCTIONS_TITLE).font = _TITLE_FONT
+    ws.cell(1, 1, INSTRUCTIONS_TITLE).font = _TITLE_FONT
     row = 3
-    row = _paragraph(ws, row, schema.INSTRUCTIONS_PURPOSE) + 1
-    ws.cell(row, 1, schema.INSTRUCTIONS_HOW_HEADING).font = _HEADING_FONT
+    row = _paragraph(ws, row, INSTRUCTIONS_PURPOSE) + 1
+    ws.cell(row, 1, INSTRUCTIONS_HOW_HEADING).font = _HEADING_FONT
     row += 1
-    for text in schema.INSTRUCTIONS_HOW:
+    for text in INSTRUCTIONS_HOW:
         row = _paragraph(ws, row, "\u2022 " + text)
     row += 1
-    ws.cell(row, 1, schema.INSTRUCTIONS_SHEETS_HEADING).font = _HEADING_FONT
+    ws.cell(row, 1, INSTRUCTIONS_SHEETS_HEADING).font = _HEADING_FONT
     row += 1
     for sheet in SHEET_ORDER:
         name = ws.cell(row, 1, sheet)
@@ -571,7 +586,7 @@ def _write_instructions(ws: Worksheet) -> None:
         ws.row_dimensions[row].height = _LINE_HEIGHT * _lines(SHEET_PURPOSE[sheet], 100)
         row += 1
     row += 1
-    _paragraph(ws, row, schema.INSTRUCTIONS_CAUTION, font=_CAUTION_FONT)
+    _paragraph(ws, row, INSTRUCTIONS_CAUTION, font=_CAUTION_FONT)
     _page(ws, "portrait")
     _protect(ws)
 
@@ -622,7 +637,7 @@ def _write_items(
 ) -> int:
     uncertain = schema.sheet_has_uncertain_items(sheet)
     levels: tuple[Level, ...] = ("low", "central", "high") if uncertain else ("central",)
-    value_heads = [LOW_HEADER, schema.CENTRAL_HEADER, HIGH_HEADER] if uncertain else [VALUE_HEADER]
+    value_heads = [LOW_HEADER, CENTRAL_HEADER, HIGH_HEADER] if uncertain else [VALUE_HEADER]
     heads = [ITEM_HEADER, *value_heads, UNIT_HEADER, GUIDANCE_HEADER, NOTE_HEADER]
     for col, text in enumerate(heads, start=1):
         _header(ws.cell(row, col), text)
@@ -717,7 +732,7 @@ def _is_occupancy(row: Row) -> bool:
     shown = row.get("measure.start_rule")
     if not isinstance(shown, str):
         return False
-    canonical = schema.START_CHOICES.get(shown, "")
+    canonical = START_CHOICES.get(shown, "")
     return canonical.endswith("_occupancy")
 
 
@@ -735,9 +750,9 @@ def _widen(widths: dict[int, float], col: int, width: float) -> None:
 def _write_matrix(ws: Worksheet, setting: str, content: _Content) -> None:
     sheet = MATRIX_SHEETS[setting]
     f = MATRIX_FIELDS[setting]
-    ws.cell(TITLE_ROW, 1, schema.MATRIX_TITLE).font = _HEADING_FONT
+    ws.cell(TITLE_ROW, 1, MATRIX_TITLE).font = _HEADING_FONT
     ws.cell(PURPOSE_ROW, 1, SHEET_PURPOSE[sheet]).font = _MUTED_FONT
-    ws.cell(PURPOSE_ROW + 1, 1, schema.MATRIX_NOTE).font = _MUTED_FONT
+    ws.cell(PURPOSE_ROW + 1, 1, MATRIX_NOTE).font = _MUTED_FONT
     header_row = HEADER_ROW + 1
     labels = content.band_labels
     size = max(MAX_BANDS, len(labels))

@@ -18,15 +18,9 @@ from collections.abc import Iterable, Mapping, Sequence
 
 from prepkit.errors import Problem
 from prepkit.plan import LEVELS, SETTINGS
-from prepkit.workbook import schema
 from prepkit.workbook.cells import Got, Key, TableRow, normalise_key, percent_hint
-from prepkit.workbook.schema import (
-    FIELDS_BY_NAME,
-    MAX_BANDS,
-    SHEET_ORDER,
-    TRANSMISSIBILITY_FIELDS,
-    format_value,
-)
+from prepkit.workbook.schema import FIELDS_BY_NAME, MAX_BANDS, TRANSMISSIBILITY_FIELDS, format_value
+from prepkit.workbook.sheets import INSTRUCTIONS_SHEET, SHEET_ORDER
 
 __all__ = [
     "problem",
@@ -77,7 +71,7 @@ def sheet_index(sheet: str) -> int:
     if not sheet:
         return -2
     key = normalise_key(sheet)
-    if key == normalise_key(schema.INSTRUCTIONS_SHEET):
+    if key == normalise_key(INSTRUCTIONS_SHEET):
         return -1
     for i, name in enumerate(SHEET_ORDER):
         if normalise_key(name) == key:
