@@ -15,6 +15,9 @@ from prepkit.errors import ModelError
 from prepkit.plan import Level, Plan, Range3, Scenario
 from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
 from prepkit.uncertainty.sampling import latin_hypercube, pert_ppf
+from prepkit.workbook.field_types import Field, Sampled
+from prepkit.workbook.schema import FIELDS
+from prepkit.workbook.targets import Target, parse_target, resolve
 
 __all__ = ["UncertainField", "plan_dimensions", "sample_quantiles", "scenario_fields"]
 
@@ -73,11 +76,16 @@ class UncertainField:
         return out if self.per_band else out[:, 0]
 
 
-TRANSMISSIBILITY_LABELS = {
-    "r0": ("Basic reproduction number R0", "dimensionless"),
-    "doubling_time": ("Doubling time", "days"),
-    "growth_rate": ("Growth rate", "1/day"),
-}
+def _sampled(per_row: bool) -> tuple[tuple[Field, Sampled, Target], ...]:
+    found = [(f, f.sampled, parse_target(f.target)) for f in FIELDS
+             if f.sampled is not None and f.target is not None]
+    chosen = [(f, s, t) for f, s, t in found if t.per_row == per_row]
+    return tuple(sorted(chosen, key=lambda x: x[1].rank))
+
+
+#: Uncertain fields of the plan as a whole, then of each measure, in Latin hypercube order.
+_PLAN_SAMPLED = _sampled(per_row=False)
+_MEASURE_SAMPLED = _sampled(per_row=True)
 
 
 def plan_dimensions(plan: Plan) -> tuple[str, ...]:
@@ -95,36 +103,47 @@ def plan_dimensions(plan: Plan) -> tuple[str, ...]:
         order) ``compliance[name]`` and, for vaccinations,
         ``efficacy_infection[name]`` and ``efficacy_severe[name]``. Fixed
         fields keep their dimension so that adding uncertainty to one field
-        does not change the draws of the others' order.
+        does not change the draws of the others' order. The fields and their
+        order are declared in :mod:`prepkit.workbook.schema` (``Field.sampled``).
     """
-    keys = [
-        "transmissibility",
-        "latent_period_days",
-        "infectious_period_days",
-        "symptomatic_share",
-        "admitted_share",
-        "icu_share",
-        "ward_stay_days",
-        "icu_stay_days",
-    ]
+    keys: list[str] = []
+    for _, sampled, _ in _PLAN_SAMPLED:
+        if sampled.key not in keys:
+            keys.append(sampled.key)
     for item in plan.interventions:
-        keys.append(f"compliance[{item.name}]")
-        if item.vaccination is not None:
-            keys.append(f"efficacy_infection[{item.name}]")
-            keys.append(f"efficacy_severe[{item.name}]")
+        for _, sampled, target in _MEASURE_SAMPLED:
+            if resolve(item, target.path) is not None:
+                keys.append(sampled.key.format(name=item.name))
     return tuple(keys)
 
 
-def _transmissibility_range(plan: Plan, level: Level) -> tuple[str, Range3, Level]:
-    disease = plan.disease
-    measure = disease.transmissibility_measure
-    if measure == "r0" and disease.r0 is not None:
-        return measure, disease.r0, level
-    if measure == "doubling_time" and disease.doubling_time_days is not None:
-        return measure, disease.doubling_time_days, DOUBLING_TIME_LEVEL[level]
-    if disease.growth_rate_per_day is None:
+def _level(sampled: Sampled, scenario: Scenario) -> Level | None:
+    """Level the field is drawn around in a scenario; None for the full range."""
+    if sampled.around == "full":
+        return None
+    level = (scenario.transmissibility_level if sampled.around == "transmissibility"
+             else scenario.severity_level)
+    return DOUBLING_TIME_LEVEL[level] if sampled.inverted else level
+
+
+def _ranges(value: object, level: Level | None) -> list[tuple[float, float, float]]:
+    values = value if isinstance(value, tuple) else (value,)
+    assert all(isinstance(v, Range3) for v in values), value
+    if level is None:
+        return [_full_range(v) for v in values]
+    return [_range_at_level(v, level) for v in values]
+
+
+def _plan_choices(plan: Plan) -> list[tuple[Sampled, object, bool]]:
+    """(declaration, value, per band) of each plan-wide dimension; the first given of a key."""
+    chosen: dict[str, tuple[Sampled, object, bool]] = {}
+    for _, sampled, target in _PLAN_SAMPLED:
+        value = resolve(getattr(plan, target.section), target.path)
+        if value is not None and sampled.key not in chosen:
+            chosen[sampled.key] = (sampled, value, target.per_band)
+    if "transmissibility" not in chosen:
         raise ModelError("disease: none of R0, doubling time and growth rate is given")
-    return "growth_rate", disease.growth_rate_per_day, level
+    return list(chosen.values())
 
 
 def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainField, ...]:
@@ -142,11 +161,11 @@ def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainFiel
     tuple of UncertainField
         In Latin hypercube column order; point fields included (their
         ``is_point`` is True). Intervention fields are those of the
-        scenario's interventions.
+        scenario's interventions. Labels and units are those declared in
+        :mod:`prepkit.workbook.schema` (``Field.sampled``).
     """
     chosen = plan.scenario(scenario) if isinstance(scenario, str) else scenario
     columns = {key: i for i, key in enumerate(plan_dimensions(plan))}
-    disease, severity = plan.disease, plan.severity
     out: list[UncertainField] = []
 
     def add(key: str, label: str, unit: str, ranges: Sequence[tuple[float, float, float]],
@@ -155,35 +174,19 @@ def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainFiel
         out.append(UncertainField(key=key, label=label, unit=unit, per_band=per_band, low=low,
                                   mode=mode, high=high, column=columns[key]))
 
-    measure, values, level = _transmissibility_range(plan, chosen.transmissibility_level)
-    label, unit = TRANSMISSIBILITY_LABELS[measure]
-    add("transmissibility", label, unit, [_range_at_level(values, level)], False)
-    add("latent_period_days", "Latent period", "days",
-        [_full_range(disease.latent_period_days)], False)
-    add("infectious_period_days", "Infectious period", "days",
-        [_full_range(disease.infectious_period_days)], False)
-    add("symptomatic_share", "Symptomatic share", "fraction",
-        [_full_range(x) for x in disease.symptomatic_share], True)
-    sev = chosen.severity_level
-    add("admitted_share", "Admitted share of infections", "fraction",
-        [_range_at_level(x, sev) for x in severity.admitted_share], True)
-    add("icu_share", "ICU share of admissions", "fraction",
-        [_range_at_level(x, sev) for x in severity.icu_share], True)
-    add("ward_stay_days", "Ward length of stay", "days",
-        [_full_range(x) for x in severity.ward_stay_days], True)
-    add("icu_stay_days", "ICU length of stay", "days",
-        [_full_range(x) for x in severity.icu_stay_days], True)
-    vaccine_seen = False
+    for sampled, value, per_band in _plan_choices(plan):
+        add(sampled.key, sampled.label, sampled.unit, _ranges(value, _level(sampled, chosen)),
+            per_band)
+    first_seen: set[str] = set()
     for name in chosen.interventions:
         item = plan.intervention(name)
-        add(f"compliance[{name}]", f"Compliance: {name}", "fraction",
-            [_full_range(item.compliance)], False)
-        if item.vaccination is not None and not vaccine_seen:
-            vaccine_seen = True
-            add(f"efficacy_infection[{name}]", f"Vaccine efficacy against infection: {name}",
-                "fraction", [_full_range(item.vaccination.efficacy_infection)], False)
-            add(f"efficacy_severe[{name}]", f"Vaccine efficacy against admission: {name}",
-                "fraction", [_full_range(item.vaccination.efficacy_severe)], False)
+        for _, sampled, target in _MEASURE_SAMPLED:
+            value = resolve(item, target.path)
+            if value is None or (sampled.first_only and sampled.key in first_seen):
+                continue
+            first_seen.add(sampled.key)
+            add(sampled.key.format(name=name), sampled.label.format(name=name), sampled.unit,
+                _ranges(value, _level(sampled, chosen)), False)
     return tuple(out)
 
 
