@@ -6,7 +6,7 @@ import datetime as dt
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from prepkit.workbook import schema, validate
+from prepkit.workbook import schema, validate, validate_measures
 from prepkit.workbook.cells import Got, Key, TableRow, normalise_key
 from prepkit.workbook.load import Grid
 from prepkit.workbook.matrices import Matrix, MatrixReader
@@ -88,16 +88,16 @@ class CrossChecks(MatrixReader):
         day0 = items[("details.day0", "central")].value
         horizon = items[("details.horizon_days", "central")].value
         measure_rows = self.tables["measures"]
-        self.problems += validate.check_measures(
+        self.problems += validate_measures.check_measures(
             measure_rows, bands,
             day0 if isinstance(day0, dt.date) else None,
             horizon if isinstance(horizon, int) else None)
         measure_names = [row.key for row in measure_rows if row.key]
         if self.table_found["scenarios"]:
-            self.problems += validate.check_scenarios(
+            self.problems += validate_measures.check_scenarios(
                 self.tables["scenarios"], measure_names, self.empty_cells["scenarios"],
                 self.title(SCENARIOS))
-        self.problems += validate.check_observed(self.tables["observed"])
+        self.problems += validate_measures.check_observed(self.tables["observed"])
         if self.errors or bands is None:
             return None
         return Checked(bands=band_rows, per_band=per_band, matrices=matrices)

@@ -6,9 +6,10 @@ from collections.abc import Mapping
 
 from prepkit.errors import BadValue, Problem
 from prepkit.plan import LEVELS, Level
-from prepkit.workbook.cells import Got, RawCell, normalise_key, parse, show
+from prepkit.workbook.cells import Got, RawCell, normalise_key, show
 from prepkit.workbook.field_types import Field
 from prepkit.workbook.load import Grid
+from prepkit.workbook.parse import parse
 
 __all__ = ["Collector", "default_of", "levels"]
 

@@ -31,15 +31,7 @@ from prepkit.plan import (
 )
 from prepkit.workbook import schema, validate, validate_plan
 from prepkit.workbook.build import Recorder, build_plan
-from prepkit.workbook.cells import (
-    Got,
-    Key,
-    TableRow,
-    field_label,
-    normalise_key,
-    show,
-    text_of,
-)
+from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key, show, text_of
 from prepkit.workbook.checks import CrossChecks
 from prepkit.workbook.collect import levels
 from prepkit.workbook.field_types import Field

@@ -46,7 +46,8 @@ from prepkit.workbook.sheets import (
     UNIT_HEADER,
     VALUE_HEADER,
 )
-from prepkit.workbook.template import HEADER_ROW, build_workbook, share_format, write_workbook
+from prepkit.workbook.template import build_workbook, write_workbook
+from prepkit.workbook.template_style import HEADER_ROW, share_format
 
 
 def _load(path: Path) -> Workbook:
