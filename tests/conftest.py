@@ -15,22 +15,21 @@ import pytest
 from prepkit.errors import Problem
 from prepkit.plan import (
     AgeBand,
-    Capacity,
     Contacts,
-    Details,
     Disease,
     End,
     Intervention,
     Isolation,
-    Observation,
     Plan,
     Range3,
     Scenario,
     Severity,
     Start,
     Vaccination,
-    Workforce,
 )
+from prepkit.plan.details import Details
+from prepkit.plan.records import Observation
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook.sheets import (
     CENTRAL_HEADER,
     HIGH_HEADER,

@@ -35,7 +35,8 @@ import numpy as np
 import pandas as pd
 from numpy.typing import NDArray
 
-from prepkit.plan import AgeBand, Capacity, Workforce
+from prepkit.plan import AgeBand
+from prepkit.plan.resources import Capacity, Workforce
 
 OPEN_BAND_WIDTH_YEARS = 10
 """Width assumed for an open top age band [years] (common practice, no source)."""

@@ -32,7 +32,8 @@ import pandas as pd
 
 from prepkit.base.plural import all_of
 from prepkit.metrics.core import BedMetrics, ScenarioMetrics, VentilatorMetrics
-from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
+from prepkit.plan import LEVELS, End, Intervention, Plan, Start
+from prepkit.plan.records import InputRecord
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun, column_slug
 from prepkit.uncertainty.run import quantile_label

@@ -32,18 +32,14 @@ from prepkit.plan import (
     LEVELS,
     SETTINGS,
     AgeBand,
-    Capacity,
     Contacts,
-    Details,
     Disease,
     End,
     EndKind,
-    InputRecord,
     Intervention,
     InterventionKind,
     Isolation,
     Level,
-    Observation,
     Plan,
     Range3,
     Scenario,
@@ -52,8 +48,10 @@ from prepkit.plan import (
     Start,
     StartKind,
     Vaccination,
-    Workforce,
 )
+from prepkit.plan.details import Details
+from prepkit.plan.records import InputRecord, Observation
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook import schema, validate
 from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key
 from prepkit.workbook.field_types import Field

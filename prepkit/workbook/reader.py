@@ -23,12 +23,8 @@ from dataclasses import replace
 from typing import cast
 
 from prepkit.errors import Problem, WorkbookError
-from prepkit.plan import (
-    Level,
-    Plan,
-    Setting,
-    Source,
-)
+from prepkit.plan import Level, Plan, Setting
+from prepkit.plan.records import Source
 from prepkit.workbook import schema, validate, validate_plan
 from prepkit.workbook.build import Recorder, build_plan
 from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key, show, text_of
@@ -98,7 +94,7 @@ def read_plan_with_warnings(path: str | os.PathLike[str]) -> tuple[Plan, tuple[P
     Parameters
     ----------
     path : str or path-like
-        The ``.xlsx`` file. It is read, never written.
+        As for :func:`read_plan`.
 
     Returns
     -------

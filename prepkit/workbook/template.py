@@ -18,6 +18,7 @@ import io
 import math
 import os
 from collections.abc import Mapping
+from dataclasses import dataclass
 from pathlib import Path
 
 from openpyxl import Workbook
@@ -207,35 +208,39 @@ def _lines(text: str, width: float) -> int:
     return min(MAX_ROW_LINES, max(1, math.ceil(len(text) / max(1.0, 0.95 * width - 2))))
 
 
+@dataclass(frozen=True)
+class _SheetOut:
+    """What the blocks of one data sheet are written with: the sheet, its content and notes."""
+
+    ws: Worksheet
+    content: SheetContent
+    notes: SheetNotes
+    validations: Validations
+    widths: dict[int, float]
+
+
 def _write_data_sheet(ws: Worksheet, sheet: str, content: SheetContent, notes: SheetNotes) -> None:
     title_rows(ws, sheet, SHEET_PURPOSE[sheet])
-    validations = Validations(ws)
+    out = _SheetOut(ws=ws, content=content, notes=notes, validations=Validations(ws), widths={})
     row = HEADER_ROW
-    widths: dict[int, float] = {}
     freeze = f"A{HEADER_ROW + 1}"
     if schema.sheet_fields(sheet):
-        row = _write_items(ws, sheet, row, content, notes, validations, widths)
+        row = _write_items(out, sheet, row)
         row += 1
     tables = [t for t in TABLES.values() if t.sheet == sheet]
     for table in tables:
         freeze = f"B{row + 1}"
-        row = _write_table(ws, table, row, content, notes, validations, widths)
+        row = _write_table(out, table, row)
         row += 1
-    for col, width in widths.items():
+    for col, width in out.widths.items():
         ws.column_dimensions[get_column_letter(col)].width = width
     ws.freeze_panes = freeze
     page_setup(ws, "landscape")
 
 
-def _write_items(
-    ws: Worksheet,
-    sheet: str,
-    row: int,
-    content: SheetContent,
-    notes: SheetNotes,
-    validations: Validations,
-    widths: dict[int, float],
-) -> int:
+def _write_items(out: _SheetOut, sheet: str, row: int) -> int:
+    ws, content, notes, validations, widths = (
+        out.ws, out.content, out.notes, out.validations, out.widths)
     uncertain = schema.sheet_has_uncertain_items(sheet)
     levels: tuple[Level, ...] = ("low", "central", "high") if uncertain else ("central",)
     value_heads = [LOW_HEADER, CENTRAL_HEADER, HIGH_HEADER] if uncertain else [VALUE_HEADER]
@@ -275,15 +280,9 @@ def _write_items(
     return row + 1
 
 
-def _write_table(
-    ws: Worksheet,
-    table: Table,
-    row: int,
-    content: SheetContent,
-    notes: SheetNotes,
-    validations: Validations,
-    widths: dict[int, float],
-) -> int:
+def _write_table(out: _SheetOut, table: Table, row: int) -> int:
+    ws, content, notes, validations, widths = (
+        out.ws, out.content, out.notes, out.validations, out.widths)
     columns = list(schema.table_columns(table.name))
     header_row = row
     header_lines = 1

@@ -21,16 +21,10 @@ from prepkit.base.sheet_text import mark_text_cell, safe_cell_text
 from prepkit.plan import Level, Range3
 from prepkit.workbook import schema
 from prepkit.workbook.field_types import Field
-from prepkit.workbook.instructions import (
-    NOTE_HELP,
-)
+from prepkit.workbook.instructions import NOTE_HELP
 from prepkit.workbook.parse import EARLIEST_DATE, LATEST_DATE
-from prepkit.workbook.schema import (
-    MAX_TEXT_LENGTH,
-)
-from prepkit.workbook.sheets import (
-    NOTE_HEADER,
-)
+from prepkit.workbook.schema import MAX_TEXT_LENGTH
+from prepkit.workbook.sheets import NOTE_HEADER
 
 TITLE_ROW = 1
 PURPOSE_ROW = 2

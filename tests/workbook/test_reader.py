@@ -15,7 +15,8 @@ import pytest
 from conftest import Editor
 
 from prepkit.errors import WorkbookError
-from prepkit.plan import Contacts, Plan, Source
+from prepkit.plan import Contacts, Plan
+from prepkit.plan.records import Source
 from prepkit.workbook import read_plan, read_plan_with_warnings, schema, write_workbook
 from prepkit.workbook.describe import describe_plan, describe_problems
 from prepkit.workbook.schema import FIELDS_BY_NAME, header_text

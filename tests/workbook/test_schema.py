@@ -7,6 +7,8 @@ import dataclasses
 import pytest
 
 import prepkit.plan as plan_module
+from prepkit.plan.details import Details
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook import schema
 from prepkit.workbook.field_types import Field
 from prepkit.workbook.instructions import INSTRUCTIONS_CAUTION, INSTRUCTIONS_HOW
@@ -111,9 +113,9 @@ def test_choice_shown_inverts_the_choice_map() -> None:
 
 def test_item_fields_map_onto_plan_attributes() -> None:
     groups = {
-        "details": plan_module.Details, "mixing": plan_module.Contacts,
+        "details": Details, "mixing": plan_module.Contacts,
         "disease": plan_module.Disease, "severity": plan_module.Severity,
-        "capacity": plan_module.Capacity, "workforce": plan_module.Workforce,
+        "capacity": Capacity, "workforce": Workforce,
     }
     for f in FIELDS:
         if f.table is None:

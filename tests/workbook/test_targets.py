@@ -7,19 +7,10 @@ import typing
 
 import pytest
 
-from prepkit.plan import (
-    AgeBand,
-    Capacity,
-    Contacts,
-    Details,
-    Disease,
-    Intervention,
-    Observation,
-    Plan,
-    Scenario,
-    Severity,
-    Workforce,
-)
+from prepkit.plan import AgeBand, Contacts, Disease, Intervention, Plan, Scenario, Severity
+from prepkit.plan.details import Details
+from prepkit.plan.records import Observation
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook.build import SPECIAL_SECTIONS, section_fields
 from prepkit.workbook.schema import FIELDS, TABLES
 from prepkit.workbook.targets import Target, parse_target, resolve

@@ -365,7 +365,7 @@ def test_spreadsheet_program_opens_and_resaves_the_workbooks(
     resaved = read_plan(out / plan_path.name)
     from dataclasses import replace
 
-    from prepkit.plan import Source
+    from prepkit.plan.records import Source
     assert replace(resaved, source=Source()) == plan
 
 
