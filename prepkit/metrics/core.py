@@ -17,8 +17,8 @@ Definitions
   (daily resolution); the largest shortfall is its daily maximum.
 * Workforce absence: workers are employed people of working age (a band
   partly inside the working ages counts in proportion to the overlap,
-  ages assumed uniform in a band; an open top band is taken as 10 years
-  wide). Workers ill at home are those with symptom onset in the last
+  ages assumed uniform in a band; an open top band is taken as
+  ``open_band_width_years`` wide). Workers ill at home are those with symptom onset in the last
   ``days_absent_per_illness`` days (a fractional last day counts in
   part); carers are ``carer_share x workers x school closure intensity``.
   The absence share is their sum over the workers, capped at 1.
@@ -37,9 +37,6 @@ from numpy.typing import NDArray
 
 from prepkit.plan import AgeBand
 from prepkit.plan.resources import Capacity, Workforce
-
-OPEN_BAND_WIDTH_YEARS = 10
-"""Width assumed for an open top age band [years] (common practice, no source)."""
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -326,7 +323,7 @@ def ventilator_metrics(daily: pd.DataFrame, capacity: Capacity) -> VentilatorMet
 
 
 def working_age_weights(
-    bands: Sequence[AgeBand], age_min: int, age_max: int
+    bands: Sequence[AgeBand], age_min: int, age_max: int, open_band_years: int
 ) -> NDArray[np.float64]:
     """Share of each band inside the working ages (ages uniform within a band).
 
@@ -336,6 +333,9 @@ def working_age_weights(
         Age bands of the plan.
     age_min, age_max : int
         Working ages, inclusive [years].
+    open_band_years : int
+        Ages an open top band is taken to span [years]
+        (:attr:`prepkit.plan.Workforce.open_band_width_years`).
 
     Returns
     -------
@@ -345,7 +345,7 @@ def working_age_weights(
     out = np.zeros(len(bands))
     for i, band in enumerate(bands):
         upper = (
-            band.lower_age + OPEN_BAND_WIDTH_YEARS - 1 if band.upper_age is None else band.upper_age
+            band.lower_age + open_band_years - 1 if band.upper_age is None else band.upper_age
         )
         width = upper - band.lower_age + 1
         overlap = min(upper, age_max) - max(band.lower_age, age_min) + 1
@@ -413,7 +413,8 @@ def add_absence_columns(
         ``absence_share``.
     """
     out = daily.copy()
-    weight = working_age_weights(bands, workforce.working_age_min, workforce.working_age_max)
+    weight = working_age_weights(bands, workforce.working_age_min, workforce.working_age_max,
+                                 workforce.open_band_width_years)
     employed = weight * workforce.employed_share
     workers = float(np.dot(employed, np.asarray(populations, dtype=np.float64)))
     ill = recent_sum(onsets_by_band, workforce.days_absent_per_illness) @ employed

@@ -62,6 +62,10 @@ class Workforce:
     carer_share_school_closure : float
         Share of workers who stay home to care for children while schools
         are closed [fraction].
+    open_band_width_years : int
+        Ages an open top band (no highest age) is taken to span when its
+        overlap with the working ages is counted [years] (the workbook's
+        default when not given).
     """
 
     working_age_min: int
@@ -69,3 +73,4 @@ class Workforce:
     employed_share: float
     days_absent_per_illness: float
     carer_share_school_closure: float
+    open_band_width_years: int = 10

@@ -584,7 +584,8 @@ def in_threads(
 def employed_weights(plan: Plan) -> NDArray[np.float64]:
     """Employed workers per resident of each band [fraction] (see :mod:`prepkit.metrics.core`)."""
     workforce = plan.workforce
-    weight = working_age_weights(plan.bands, workforce.working_age_min, workforce.working_age_max)
+    weight = working_age_weights(plan.bands, workforce.working_age_min, workforce.working_age_max,
+                                 workforce.open_band_width_years)
     return np.asarray(weight * workforce.employed_share, dtype=np.float64)
 
 

@@ -89,4 +89,10 @@ SERVICE_FIELDS: tuple[Field, ...] = (
           default=0.1,
           help="Share of workers who must stay home while schools are closed. Default 10%: "
                + TYPICAL_VALUE + "."),
+    Field(name="workforce.open_band_width_years", target="workforce.open_band_width_years",
+          sheet=WORKFORCE, label="Years spanned by the open top band", unit="years",
+          type="integer", minimum=1, maximum=50, default=10,
+          help="A top band with no highest age (such as 75+) is counted as this many years "
+               "when working out how many of its people are of working age. Default 10: "
+               + TYPICAL_VALUE + "."),
 )
