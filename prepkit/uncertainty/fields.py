@@ -94,7 +94,7 @@ def plan_dimensions(plan: Plan) -> tuple[str, ...]:
     Parameters
     ----------
     plan : Plan
-        The plan.
+        The plan whose uncertain inputs are sampled.
 
     Returns
     -------
@@ -152,9 +152,9 @@ def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainFiel
     Parameters
     ----------
     plan : Plan
-        The plan.
+        The plan whose uncertain inputs are sampled.
     scenario : Scenario or str
-        The scenario or its name.
+        The scenario (or its name) that sets the levels drawn around.
 
     Returns
     -------

@@ -2,18 +2,7 @@
 
 The rules in words are in :mod:`prepkit.uncertainty.run`.
 
-References
-----------
-Malcolm D.G., Roseboom J.H., Clark C.E., Fazar W. (1959). Application of a
-technique for research and development program evaluation. Operations
-Research 7:646-669. doi:10.1287/opre.7.5.646
-
-Vose D. (2008). Risk Analysis: A Quantitative Guide, 3rd ed. Wiley
-(the modified PERT with a shape parameter lambda; from memory).
-
-McKay M.D., Beckman R.J., Conover W.J. (1979). A comparison of three methods
-for selecting values of input variables in the analysis of output from a
-computer code. Technometrics 21:239-245. doi:10.2307/1268522
+Each function names its published source in its References section.
 """
 
 from __future__ import annotations
