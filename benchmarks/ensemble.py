@@ -65,11 +65,11 @@ from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
 from prepkit.simulation.simulate import simulate_reference  # noqa: E402
 from prepkit.simulation.threads import use_all_cores  # noqa: E402
 from prepkit.uncertainty.ensemble import simulate_draws  # noqa: E402
+from prepkit.uncertainty.fields import sample_quantiles  # noqa: E402
 from prepkit.uncertainty.plan_runs import run_uncertainty  # noqa: E402
 from prepkit.uncertainty.run import (  # noqa: E402
     draw_values,
     run_ensemble,
-    sample_quantiles,
 )
 from prepkit.uncertainty.summary_json import uncertainty_summary_dict  # noqa: E402
 

@@ -41,7 +41,18 @@ from test_workbook_fuzz import Mutation
 
 from prepkit.plan import Level
 from prepkit.workbook import schema
-from prepkit.workbook.schema import Field, normalise_header
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.schema import normalise_header
+from prepkit.workbook.sheets import (
+    BAND_HEADER,
+    CENTRAL_HEADER,
+    HIGH_HEADER,
+    ITEM_HEADER,
+    LOW_HEADER,
+    MATRIX_SHEETS,
+    PLAN,
+    VALUE_HEADER,
+)
 
 NUMERIC_TYPES = ("integer", "number", "share")
 MUTABLE_TYPES = (*NUMERIC_TYPES, "date", "choice")
@@ -125,7 +136,7 @@ def load_base(name: str, data: bytes) -> Base:
     by_field: dict[str, list[tuple[str, str]]] = {}
     for name_key in groups:
         by_field.setdefault(name_key[0], []).append(name_key)
-    plan_sheet = wb[schema.PLAN]
+    plan_sheet = wb[PLAN]
     values = {_text(plan_sheet.cell(r, 1).value): plan_sheet.cell(r, 2).value
               for r in range(1, plan_sheet.max_row + 1)}
     day0 = values.get(_text(schema.FIELDS_BY_NAME["details.day0"].label))
@@ -145,7 +156,7 @@ def _input_cells(ws: Worksheet) -> list[tuple[tuple[int, int], Field, Level, str
     by_row: dict[int, dict[int, str]] = {}
     for (row, col), text in texts.items():
         by_row.setdefault(row, {})[col] = text
-    if ws.title in schema.MATRIX_SHEETS.values():
+    if ws.title in MATRIX_SHEETS.values():
         return _matrix_cells(ws, by_row)
     return [*_item_cells(ws, by_row), *_table_cells(ws, by_row)]
 
@@ -153,11 +164,11 @@ def _input_cells(ws: Worksheet) -> list[tuple[tuple[int, int], Field, Level, str
 def _item_cells(ws: Worksheet, by_row: dict[int, dict[int, str]]
                 ) -> list[tuple[tuple[int, int], Field, Level, str]]:
     fields = [f for f in schema.sheet_fields(ws.title) if f.type in MUTABLE_TYPES]
-    heads = {_text(schema.VALUE_HEADER): "central", _text(schema.CENTRAL_HEADER): "central",
-             _text(schema.LOW_HEADER): "low", _text(schema.HIGH_HEADER): "high"}
+    heads = {_text(VALUE_HEADER): "central", _text(CENTRAL_HEADER): "central",
+             _text(LOW_HEADER): "low", _text(HIGH_HEADER): "high"}
     for row in sorted(by_row):
         texts = by_row[row]
-        item_col = next((c for c, t in sorted(texts.items()) if t == _text(schema.ITEM_HEADER)),
+        item_col = next((c for c, t in sorted(texts.items()) if t == _text(ITEM_HEADER)),
                         None)
         if item_col is None:
             continue
@@ -207,9 +218,9 @@ def _table_cells(ws: Worksheet, by_row: dict[int, dict[int, str]]
 
 def _matrix_cells(ws: Worksheet, by_row: dict[int, dict[int, str]]
                   ) -> list[tuple[tuple[int, int], Field, Level, str]]:
-    setting = next(s for s, sheet in schema.MATRIX_SHEETS.items() if sheet == ws.title)
+    setting = next(s for s, sheet in MATRIX_SHEETS.items() if sheet == ws.title)
     f = schema.MATRIX_FIELDS[setting]
-    band = _text(schema.BAND_HEADER)
+    band = _text(BAND_HEADER)
     for row, texts in sorted(by_row.items()):
         band_col = next((c for c, t in texts.items() if t == band), None)
         if band_col is None:

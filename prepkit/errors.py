@@ -94,6 +94,49 @@ class WorkbookError(ValueError, PrepkitError):
         return self.problems[0].cell if self.problems else ""
 
 
+class BadValue(ValueError, PrepkitError):
+    """A cell holds something its field cannot take.
+
+    Raised while one cell is read and turned into a :class:`Problem` by the
+    reader (it never reaches the caller of :func:`prepkit.workbook.read_plan`).
+
+    Attributes
+    ----------
+    found : str
+        What the cell holds, in plain words.
+    expected : str or None
+        Replacement for the field's own description of a good value.
+    """
+
+    def __init__(self, found: str, expected: str | None = None) -> None:
+        super().__init__(found)
+        self.found = found
+        self.expected = expected
+
+
+class SheetTooBig(ValueError, PrepkitError):
+    """A sheet holds more than the reader's bounds allow.
+
+    Raised while one sheet is read and turned into a :class:`Problem` naming
+    the sheet (:meth:`problem`).
+
+    Attributes
+    ----------
+    expected, found : str
+        The bound and what the sheet holds, in plain words.
+    """
+
+    def __init__(self, expected: str, found: str) -> None:
+        super().__init__(found)
+        self.expected = expected
+        self.found = found
+
+    def problem(self, title: str) -> Problem:
+        """The problem to report for the sheet titled ``title``."""
+        return Problem(sheet=title, cell="", field="sheet", expected=self.expected,
+                       found=self.found)
+
+
 class ModelError(ValueError, PrepkitError):
     """The plan is valid as a workbook but cannot be simulated as asked.
 

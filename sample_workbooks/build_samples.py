@@ -33,15 +33,12 @@ from numpy.typing import NDArray
 from prepkit.plan import (
     SETTINGS,
     AgeBand,
-    Capacity,
     Contacts,
-    Details,
     Disease,
     End,
     Intervention,
     Isolation,
     Level,
-    Observation,
     Plan,
     Range3,
     Scenario,
@@ -49,8 +46,10 @@ from prepkit.plan import (
     Severity,
     Start,
     Vaccination,
-    Workforce,
 )
+from prepkit.plan.details import Details
+from prepkit.plan.records import Observation
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
 
 HERE = Path(__file__).resolve().parent

@@ -15,21 +15,27 @@ import pytest
 from prepkit.errors import Problem
 from prepkit.plan import (
     AgeBand,
-    Capacity,
     Contacts,
-    Details,
     Disease,
     End,
     Intervention,
     Isolation,
-    Observation,
     Plan,
     Range3,
     Scenario,
     Severity,
     Start,
     Vaccination,
-    Workforce,
+)
+from prepkit.plan.details import Details
+from prepkit.plan.records import Observation
+from prepkit.plan.resources import Capacity, Workforce
+from prepkit.workbook.sheets import (
+    CENTRAL_HEADER,
+    HIGH_HEADER,
+    ITEM_HEADER,
+    LOW_HEADER,
+    VALUE_HEADER,
 )
 
 
@@ -191,10 +197,10 @@ class Editor:
         from prepkit.workbook import schema
 
         ws = self.wb[sheet]
-        head_row, item_col = self._header(ws, schema.ITEM_HEADER)
-        heads = {"low": schema.LOW_HEADER, "high": schema.HIGH_HEADER,
-                 "central": schema.CENTRAL_HEADER if schema.sheet_has_uncertain_items(sheet)
-                 else schema.VALUE_HEADER}
+        head_row, item_col = self._header(ws, ITEM_HEADER)
+        heads = {"low": LOW_HEADER, "high": HIGH_HEADER,
+                 "central": CENTRAL_HEADER if schema.sheet_has_uncertain_items(sheet)
+                 else VALUE_HEADER}
         col = next(c.column for c in ws[head_row] if c.value == heads[level])
         row = next(r for r in range(head_row + 1, ws.max_row + 1)
                    if ws.cell(r, item_col).value == label)

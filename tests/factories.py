@@ -8,9 +8,7 @@ from typing import Any
 
 from prepkit.plan import (
     AgeBand,
-    Capacity,
     Contacts,
-    Details,
     Disease,
     End,
     Intervention,
@@ -23,8 +21,9 @@ from prepkit.plan import (
     Severity,
     Start,
     Vaccination,
-    Workforce,
 )
+from prepkit.plan.details import Details
+from prepkit.plan.resources import Capacity, Workforce
 
 DAY0 = dt.date(2025, 1, 1)
 

@@ -2,7 +2,7 @@
 
 Workers are employed people of working age (a band partly inside the
 working ages counts in proportion to the overlap, ages assumed uniform in a
-band; an open top band is taken as 10 years wide). Workers ill at home are
+band; an open top band is taken as ``open_band_width_years`` wide). Workers ill at home are
 those with symptom onset in the last ``days_absent_per_illness`` days (a
 fractional last day counts in part); carers are
 ``carer_share x workers x school closure intensity``. The absence share is
@@ -21,14 +21,12 @@ import numpy as np
 import pandas as pd
 from numpy.typing import ArrayLike, NDArray
 
-from prepkit.plan import AgeBand, Workforce
-
-OPEN_BAND_WIDTH_YEARS = 10
-"""Width assumed for an open top age band [years] (common practice, no source)."""
+from prepkit.plan import AgeBand
+from prepkit.plan.resources import Workforce
 
 
 def working_age_weights(
-    bands: Sequence[AgeBand], age_min: int, age_max: int
+    bands: Sequence[AgeBand], age_min: int, age_max: int, open_band_years: int
 ) -> NDArray[np.float64]:
     """Share of each band inside the working ages (ages uniform within a band).
 
@@ -38,6 +36,9 @@ def working_age_weights(
         Age bands of the plan.
     age_min, age_max : int
         Working ages, inclusive [years].
+    open_band_years : int
+        Ages an open top band is taken to span [years]
+        (:attr:`prepkit.plan.resources.Workforce.open_band_width_years`).
 
     Returns
     -------
@@ -47,7 +48,7 @@ def working_age_weights(
     out = np.zeros(len(bands))
     for i, band in enumerate(bands):
         upper = (
-            band.lower_age + OPEN_BAND_WIDTH_YEARS - 1 if band.upper_age is None else band.upper_age
+            band.lower_age + open_band_years - 1 if band.upper_age is None else band.upper_age
         )
         width = upper - band.lower_age + 1
         overlap = min(upper, age_max) - max(band.lower_age, age_min) + 1
@@ -57,7 +58,8 @@ def working_age_weights(
 
 def employed_weights(bands: Sequence[AgeBand], workforce: Workforce) -> NDArray[np.float64]:
     """Employed workers per resident of each band [fraction]."""
-    weight = working_age_weights(bands, workforce.working_age_min, workforce.working_age_max)
+    weight = working_age_weights(bands, workforce.working_age_min, workforce.working_age_max,
+                                 workforce.open_band_width_years)
     return np.asarray(weight * workforce.employed_share, dtype=np.float64)
 
 

@@ -15,13 +15,16 @@ import datetime as dt
 from dataclasses import dataclass, field
 from typing import Literal
 
+from prepkit.plan.details import Details
+from prepkit.plan.records import Observation, Source
+from prepkit.plan.resources import Capacity, Workforce
+
 Level = Literal["low", "central", "high"]
 LEVELS: tuple[Level, ...] = ("low", "central", "high")
 
 Setting = Literal["home", "school", "work", "community"]
 SETTINGS: tuple[Setting, ...] = ("home", "school", "work", "community")
 
-PageSize = Literal["A4", "Letter"]
 InterventionKind = Literal["contacts", "vaccination", "isolation"]
 StartKind = Literal["date", "ward_occupancy", "icu_occupancy", "admissions"]
 EndKind = Literal["horizon", "date", "duration", "release"]
@@ -51,40 +54,6 @@ class Range3:
     def is_point(self) -> bool:
         """True when Low = Central = High."""
         return self.low == self.central == self.high
-
-
-@dataclass(frozen=True, kw_only=True)
-class Details:
-    """Plan details: who, where, when, how long, how many draws.
-
-    Attributes
-    ----------
-    jurisdiction : str
-        Name of the municipality or county.
-    title : str
-        Report title.
-    prepared_by : str
-        Person or team preparing the plan.
-    day0 : datetime.date
-        Calendar date of model day 0.
-    horizon_days : int
-        Days simulated after day 0 [days], 1 to 730.
-    draws : int
-        Uncertainty draws per scenario [count]; 0 turns the ensemble off.
-    seed : int
-        Random seed for the uncertainty draws.
-    page_size : {"A4", "Letter"}
-        Paper size of the briefing pack.
-    """
-
-    jurisdiction: str
-    title: str
-    prepared_by: str
-    day0: dt.date
-    horizon_days: int
-    draws: int
-    seed: int
-    page_size: PageSize
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -250,70 +219,6 @@ class Severity:
 
 
 @dataclass(frozen=True, kw_only=True)
-class Capacity:
-    """Hospital beds serving the jurisdiction.
-
-    Attributes
-    ----------
-    ward_beds, icu_beds : int
-        Staffed beds [beds].
-    ventilators : int or None
-        Ventilators available to outbreak patients [devices], if known.
-    ventilated_icu_share : float
-        Share of outbreak ICU patients on a ventilator on any day [fraction]
-        (the workbook's default when not given).
-    ward_baseline_occupancy, icu_baseline_occupancy : float
-        Share of beds used by other patients [fraction].
-    surge_ward_beds, surge_icu_beds : int
-        Extra beds that can be opened [beds].
-    surge_days_to_open : float
-        Days from the surge trigger until surge beds are usable [days].
-    surge_trigger_occupancy : float
-        Occupancy share of available beds that triggers opening surge beds
-        [fraction].
-    catchment_share : float
-        Share of the jurisdiction's patients these hospitals receive
-        [fraction].
-    """
-
-    ward_beds: int
-    icu_beds: int
-    ventilators: int | None
-    ventilated_icu_share: float = 0.5
-    ward_baseline_occupancy: float
-    icu_baseline_occupancy: float
-    surge_ward_beds: int
-    surge_icu_beds: int
-    surge_days_to_open: float
-    surge_trigger_occupancy: float
-    catchment_share: float
-
-
-@dataclass(frozen=True, kw_only=True)
-class Workforce:
-    """Inputs for workforce absence.
-
-    Attributes
-    ----------
-    working_age_min, working_age_max : int
-        Working ages [years], inclusive.
-    employed_share : float
-        Share of working-age people in work [fraction].
-    days_absent_per_illness : float
-        Days off work per symptomatic illness [days].
-    carer_share_school_closure : float
-        Share of workers who stay home to care for children while schools
-        are closed [fraction].
-    """
-
-    working_age_min: int
-    working_age_max: int
-    employed_share: float
-    days_absent_per_illness: float
-    carer_share_school_closure: float
-
-
-@dataclass(frozen=True, kw_only=True)
 class Start:
     """When an intervention starts.
 
@@ -432,54 +337,6 @@ class Scenario:
     severity_level: Level
     interventions: tuple[str, ...]
     description: str = ""
-
-
-@dataclass(frozen=True, kw_only=True)
-class Observation:
-    """One day of observed hospital data (any field may be missing)."""
-
-    date: dt.date
-    admissions: float | None = None
-    ward_census: float | None = None
-    icu_census: float | None = None
-
-
-@dataclass(frozen=True, kw_only=True)
-class InputRecord:
-    """One input as read, for the assumptions appendix and the echo sheet.
-
-    Attributes
-    ----------
-    sheet, cell : str
-        Where it was read.
-    name : str
-        Canonical field name.
-    label : str
-        Plain-words label, with the band where it applies.
-    value : str
-        Value as shown to a reader, percentages at the edge.
-    unit : str
-        Unit as shown to a reader.
-    defaulted : bool
-        True when the cell was blank and the default was used.
-    """
-
-    sheet: str
-    cell: str
-    name: str
-    label: str
-    value: str
-    unit: str
-    defaulted: bool = False
-
-
-@dataclass(frozen=True, kw_only=True)
-class Source:
-    """Where the plan was read from."""
-
-    path: str = ""
-    sha256: str = ""
-    inputs: tuple[InputRecord, ...] = ()
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -33,12 +33,14 @@ import pandas as pd
 from prepkit.base.plural import all_of
 from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics
 from prepkit.metrics.core import ScenarioMetrics
-from prepkit.plan import LEVELS, End, InputRecord, Intervention, Plan, Start
+from prepkit.plan import LEVELS, End, Intervention, Plan, Start
+from prepkit.plan.records import InputRecord
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.scenarios.daily import column_slug
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun
 from prepkit.uncertainty.results import quantile_label
 from prepkit.workbook import schema
+from prepkit.workbook.sheets import MATRIX_SHEETS, SHEET_ORDER, SHEET_PURPOSE
 
 __all__ = [
     "BED_NOUNS",
@@ -1679,13 +1681,13 @@ def assumption_groups(records: Sequence[InputRecord]) -> tuple[AssumptionGroup, 
     by_sheet: dict[str, list[InputRecord]] = {}
     for record in records:
         by_sheet.setdefault(record.sheet, []).append(record)
-    order = [s for s in schema.SHEET_ORDER if s in by_sheet]
+    order = [s for s in SHEET_ORDER if s in by_sheet]
     order += [s for s in by_sheet if s not in order]
-    matrix_sheets = set(schema.MATRIX_SHEETS.values())
+    matrix_sheets = set(MATRIX_SHEETS.values())
     groups = []
     for sheet in order:
         items = by_sheet[sheet]
-        purpose = schema.SHEET_PURPOSE.get(sheet, "")
+        purpose = SHEET_PURPOSE.get(sheet, "")
         defaulted = sum(1 for r in items if r.defaulted)
         if sheet in matrix_sheets:
             grid = _grid(items, matrix=True)

@@ -25,7 +25,8 @@ from typing import Literal
 import pandas as pd
 from scipy import stats
 
-from prepkit.plan import Observation, Plan
+from prepkit.plan import Plan
+from prepkit.plan.records import Observation
 
 __all__ = [
     "RULE_TEXT",

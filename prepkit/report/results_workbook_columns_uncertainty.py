@@ -26,6 +26,7 @@ from prepkit.report.results_workbook_columns import (
     key_columns,
 )
 from prepkit.uncertainty.results import quantile_label
+from prepkit.workbook.schema import FIELDS
 
 __all__ = [
     "CHANCE",
@@ -252,10 +253,12 @@ SENSITIVITY = SheetColumns(
     ),
 )
 
-#: Number format and shown unit of a sensitivity input, by its unit in the ensemble.
+#: Number format of a sensitivity input, by its unit in the workbook.
+_INPUT_FORMATS: dict[str, str] = {"%": PERCENT, "days": DECIMAL_DAYS, "": RATIO, "per day": RATE}
+
+#: Shown unit and number format of a sensitivity input, by its unit in the ensemble; both
+#: come from the declarations of the uncertain workbook fields (``Field.sampled``).
 INPUT_UNITS: dict[str, tuple[str, str]] = {
-    "fraction": ("%", PERCENT),
-    "days": ("days", DECIMAL_DAYS),
-    "dimensionless": ("no unit", RATIO),
-    "1/day": ("per day", RATE),
+    f.sampled.unit: (f.unit or "no unit", _INPUT_FORMATS[f.unit])
+    for f in FIELDS if f.sampled is not None
 }

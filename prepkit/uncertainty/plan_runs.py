@@ -21,6 +21,7 @@ from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults
 from prepkit.simulation.inputs import validate_plan
 from prepkit.uncertainty.ensemble import DEFAULT_BLOCKS
+from prepkit.uncertainty.fields import plan_dimensions, sample_quantiles
 from prepkit.uncertainty.parameters import ENSEMBLE_MIN_SUBSTEPS
 from prepkit.uncertainty.results import (
     DEFAULT_QUANTILES,
@@ -28,7 +29,7 @@ from prepkit.uncertainty.results import (
     ScenarioUncertainty,
     UncertaintyResults,
 )
-from prepkit.uncertainty.run import ValueCache, plan_dimensions, run_ensemble, sample_quantiles
+from prepkit.uncertainty.run import ValueCache, run_ensemble
 from prepkit.uncertainty.summaries import reported_quantiles
 
 Progress = Callable[[int, int], None] | None

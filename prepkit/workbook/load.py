@@ -48,7 +48,7 @@ from openpyxl.worksheet._reader import (
 from openpyxl.xml.constants import SHEET_MAIN_NS
 from openpyxl.xml.functions import iterparse
 
-from prepkit.errors import Problem, WorkbookError
+from prepkit.errors import Problem, SheetTooBig, WorkbookError
 from prepkit.workbook.cells import RawCell
 from prepkit.workbook.source_file import XLSX, check_archive, file_problem
 
@@ -186,7 +186,7 @@ def _read_sheets(reader: ExcelReader, found: list[Any], wanted: Callable[[str], 
             continue
         try:
             entries = _read_sheet(reader, rel.target, strings)
-        except _TooBig as exc:
+        except SheetTooBig as exc:
             problems.append(exc.problem(title))
             continue
         except Exception as exc:  # damaged XML, a bad string index: the sheet cannot be read
@@ -224,17 +224,6 @@ def _unopenable(exc: BaseException) -> WorkbookError:
 
 _Entry = tuple[int, int, Any, int, str, "str | None"]
 """(row, column, saved value, style id, openpyxl data type, formula text or None)."""
-
-
-class _TooBig(Exception):
-    def __init__(self, expected: str, found: str) -> None:
-        super().__init__(found)
-        self.expected = expected
-        self.found = found
-
-    def problem(self, title: str) -> Problem:
-        return Problem(sheet=title, cell="", field="sheet", expected=self.expected,
-                       found=self.found)
 
 
 class _SharedRef:
@@ -326,7 +315,7 @@ class _CellParser(WorkSheetParser):
                 continue
             entries += 1
             if entries > MAX_ENTRIES_PER_SHEET:
-                raise _TooBig(
+                raise SheetTooBig(
                     f"at most {MAX_ENTRIES_PER_SHEET:,} rows and cells (filled or formatted)",
                     f"more than {MAX_ENTRIES_PER_SHEET:,}; delete the rows and columns the "
                     "sheet does not need, or keep them in another workbook",
@@ -363,7 +352,7 @@ def _read_sheet(reader: ExcelReader, part: str, strings: _SharedStrings) -> list
             if value is None and formula is None:
                 continue
             if len(entries) >= MAX_FILLED_CELLS_PER_SHEET:
-                raise _TooBig(
+                raise SheetTooBig(
                     f"at most {MAX_FILLED_CELLS_PER_SHEET:,} filled cells (a plan's sheets "
                     "hold a few thousand)",
                     f"more than {MAX_FILLED_CELLS_PER_SHEET:,}; delete what the sheet does not "

@@ -16,76 +16,49 @@ within the bounds of :mod:`prepkit.workbook.load`.
 
 from __future__ import annotations
 
-import datetime as dt
 import hashlib
 import os
-from collections.abc import Iterable, Mapping, Sequence
-from dataclasses import dataclass, field, replace
-from typing import Any, cast
-
-from openpyxl.utils import get_column_letter
+from collections.abc import Sequence
+from dataclasses import replace
+from typing import cast
 
 from prepkit.errors import Problem, WorkbookError
-from prepkit.plan import (
-    LEVELS,
-    SETTINGS,
-    AgeBand,
-    Capacity,
-    Contacts,
-    Details,
-    Disease,
-    End,
-    EndKind,
-    InputRecord,
-    Intervention,
-    InterventionKind,
-    Isolation,
-    Level,
-    Observation,
-    PageSize,
-    Plan,
-    Range3,
-    Scenario,
-    Setting,
-    Severity,
-    Source,
-    Start,
-    StartKind,
-    Vaccination,
-    Workforce,
-)
+from prepkit.plan import Level, Plan, Setting
+from prepkit.plan.records import Source
 from prepkit.workbook import schema, validate, validate_plan
-from prepkit.workbook.cells import (
-    BadValue,
-    Got,
-    Key,
-    RawCell,
-    TableRow,
-    field_label,
-    normalise_key,
-    parse,
-    show,
-    text_of,
+from prepkit.workbook.build import Recorder, build_plan
+from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key, show, text_of
+from prepkit.workbook.checks import CrossChecks
+from prepkit.workbook.collect import levels
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.headers import (
+    ItemHeader,
+    TableHeader,
+    find_item_header,
+    find_table_header,
+    ref,
 )
 from prepkit.workbook.load import Grid, open_book
 from prepkit.workbook.schema import (
-    BAND_HEADER,
     FIELDS_BY_NAME,
-    MATRIX_FIELDS,
-    MATRIX_SHEETS,
-    REQUIRED_SHEETS,
-    SHEET_ORDER,
     TABLES,
-    Field,
     format_value,
     header_text,
     normalise_header,
+)
+from prepkit.workbook.sheets import (
+    CENTRAL_HEADER,
+    ITEM_HEADER,
+    MATRIX_SHEETS,
+    POPULATION,
+    REQUIRED_SHEETS,
+    SHEET_ORDER,
+    VALUE_HEADER,
 )
 from prepkit.workbook.source_file import MAX_FILE_BYTES, read_file
 
 __all__ = ["read_plan", "read_plan_with_warnings", "MAX_FILE_BYTES"]
 
-_SHARE_SETTINGS: tuple[Setting, ...] = ("home", "school", "work")
 _SHEET_KEYS = frozenset(normalise_key(name) for name in SHEET_ORDER)
 
 
@@ -121,7 +94,7 @@ def read_plan_with_warnings(path: str | os.PathLike[str]) -> tuple[Plan, tuple[P
     Parameters
     ----------
     path : str or path-like
-        The ``.xlsx`` file. It is read, never written.
+        As for :func:`read_plan`.
 
     Returns
     -------
@@ -142,182 +115,10 @@ def read_plan_with_warnings(path: str | os.PathLike[str]) -> tuple[Plan, tuple[P
     return _Reader(book.grids, book.other_sheets).read(source)
 
 
-def _ref(row: int, col: int) -> str:
-    return f"{get_column_letter(col)}{row}"
-
-
-# ---- Headers ---------------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class _ItemHeader:
-    row: int
-    item_col: int
-    cols: dict[Level, int]
-
-
-@dataclass(frozen=True)
-class _TableHeader:
-    row: int
-    cols: dict[Key, int]
-    duplicates: tuple[int, ...]
-
-
-def _find_item_header(grid: Grid) -> _ItemHeader | None:
-    item = normalise_header(schema.ITEM_HEADER)
-    value_heads: tuple[tuple[Level, str], ...] = (
-        ("central", normalise_header(schema.VALUE_HEADER)),
-        ("central", normalise_header(schema.CENTRAL_HEADER)),
-        ("low", normalise_header(schema.LOW_HEADER)),
-        ("high", normalise_header(schema.HIGH_HEADER)),
-    )
-    for r in grid.rows:
-        cells = grid.row(r)
-        texts = {c: normalise_header(text_of(raw)) for c, raw in sorted(cells.items())}
-        item_col = next((c for c, text in texts.items() if text == item), None)
-        if item_col is None:
-            continue
-        cols: dict[Level, int] = {}
-        for c, text in texts.items():
-            if c <= item_col:
-                continue
-            for level, head in value_heads:
-                if text == head and level not in cols:
-                    cols[level] = c
-        if "central" in cols:
-            return _ItemHeader(row=r, item_col=item_col, cols=cols)
-    return None
-
-
-def _table_headings(table: str) -> dict[str, Key]:
-    return {
-        normalise_header(header_text(f, level)): (f.name, level)
-        for f, level in schema.table_columns(table)
-    }
-
-
-def _find_table_header(grid: Grid, table: str) -> _TableHeader | None:
-    headings = _table_headings(table)
-    key: Key = (TABLES[table].key, "central")
-    best: _TableHeader | None = None
-    for r in grid.rows:
-        cols: dict[Key, int] = {}
-        duplicates: list[int] = []
-        for c, raw in sorted(grid.row(r).items()):
-            found = headings.get(normalise_header(text_of(raw)))
-            if found is None:
-                continue
-            if found in cols:
-                duplicates.append(c)
-            else:
-                cols[found] = c
-        if key in cols and (best is None or len(cols) > len(best.cols)):
-            best = _TableHeader(row=r, cols=cols, duplicates=tuple(duplicates))
-    return best
-
-
 # ---- The reader ------------------------------------------------------------------------------
 
-class _Reader:
+class _Reader(CrossChecks):
     """Collects located inputs and problems, checks them, builds the plan."""
-
-    def __init__(self, book: dict[str, Grid], other_sheets: Mapping[str, str]) -> None:
-        self.book = book
-        self.other_sheets = other_sheets
-        self.problems: list[Problem] = []
-        self.items: dict[Key, Got] = {}
-        self.tables: dict[str, list[TableRow]] = {name: [] for name in TABLES}
-        self.table_found: dict[str, bool] = {name: False for name in TABLES}
-        self.empty_cells: dict[str, str] = {name: "" for name in TABLES}
-        self.titles: dict[str, str] = {}
-        self.records: list[tuple[tuple[int, int, int, int], InputRecord]] = []
-        self.matrices_intended = False
-
-    # -- messages
-
-    def report(self, sheet: str, cell: str, label: str, expected: str, found: str,
-               warning: bool = False) -> None:
-        self.problems.append(Problem(sheet=sheet, cell=cell, field=label, expected=expected,
-                                     found=found, severity="warning" if warning else "error"))
-
-    @property
-    def errors(self) -> list[Problem]:
-        return [p for p in self.problems if p.severity == "error"]
-
-    # -- located values
-
-    def got(
-        self,
-        f: Field,
-        level: Level,
-        sheet: str,
-        cell: str,
-        raw: RawCell | None,
-        label: str,
-        *,
-        fallback: Got | None = None,
-        missing: str | None = None,
-        quiet: bool = False,
-    ) -> Got:
-        """Read one input, reporting single-field problems.
-
-        ``fallback`` is the Central value a blank Low or High takes;
-        ``missing`` explains a row or column that is not there; ``quiet``
-        leaves a required blank unreported (already reported elsewhere).
-        """
-        found = missing if missing is not None else show(raw)
-        try:
-            value, percent = parse(f, raw)
-        except BadValue as exc:
-            self.report(sheet, cell, label, exc.expected or f.expected(), exc.found)
-            return Got(field=f, level=level, sheet=sheet, cell=cell, label=label, value=None,
-                       found=exc.found, blank=False, bad=True)
-        if value is not None:
-            return Got(field=f, level=level, sheet=sheet, cell=cell, label=label, value=value,
-                       found=found, blank=False, percent=percent)
-        if fallback is not None:
-            return Got(field=f, level=level, sheet=sheet, cell=cell, label=label,
-                       value=fallback.value, found=found, blank=True, bad=fallback.bad,
-                       percent=fallback.percent)
-        if f.default is not None:
-            return Got(field=f, level=level, sheet=sheet, cell=cell, label=label,
-                       value=_default(f), found=found, blank=True, defaulted=True)
-        if f.required and not quiet:
-            self.report(sheet, cell, label, f.expected(), found)
-        return Got(field=f, level=level, sheet=sheet, cell=cell, label=label, value=None,
-                   found=found, blank=True)
-
-    def absent(self, f: Field, level: Level, sheet: str, label: str, why: str) -> Got:
-        """An input whose sheet or block is missing (already reported)."""
-        value = _default(f) if f.default is not None and level == "central" else None
-        return Got(field=f, level=level, sheet=sheet, cell="", label=label, value=value,
-                   found=why, blank=True, defaulted=value is not None)
-
-    # -- sheets
-
-    def grid(self, name: str) -> Grid | None:
-        grid = self.book.get(name)
-        if grid is None:
-            want = normalise_key(name)
-            grid = next((g for t, g in self.book.items() if normalise_key(t) == want), None)
-        if grid is not None:
-            self.titles[name] = grid.title
-        return grid
-
-    def title(self, name: str) -> str:
-        return self.titles.get(name, name)
-
-    def no_grid(self, name: str) -> tuple[str, str] | None:
-        """Title and kind of a sheet named ``name`` that holds no cells (a chart sheet), or None."""
-        want = normalise_key(name)
-        return next(((t, kind) for t, kind in self.other_sheets.items()
-                     if normalise_key(t) == want), None)
-
-    def missing(self, name: str) -> str:
-        """What stands where the sheet ``name`` should be, for messages."""
-        other = self.no_grid(name)
-        if other is None:
-            return "no such sheet"
-        return f"{other[1]} named '{other[0]}', which holds no cells"
 
     def read(self, source: Source) -> tuple[Plan, tuple[Problem, ...]]:
         for sheet in SHEET_ORDER:
@@ -337,42 +138,45 @@ class _Reader:
         errors = [p for p in problems if p.severity == "error"]
         found_warnings = tuple(p for p in problems if p.severity != "error")
         if checked is None and not errors:  # every failed check reports; kept as a guard
-            errors = [Problem(self.title(schema.POPULATION), "", "Band",
+            errors = [Problem(self.title(POPULATION), "", "Band",
                               "at least one readable age band", "none")]
         if errors or checked is None:
             raise WorkbookError(errors, found_warnings)
-        plan = self.build(checked)
+        rec = Recorder()
+        matrix_values = None if checked.matrices is None else {
+            cast(Setting, setting): matrix.values for setting, matrix in checked.matrices.items()}
+        plan = build_plan(items=self.items, band_rows=checked.bands, per_band=checked.per_band,
+                          matrix_values=matrix_values, tables=self.tables, rec=rec)
         whole = validate_plan.check_plan(
             plan, items=self.items, disease_rows=checked.per_band.get("band_disease", {}),
             scenario_rows=self.tables["scenarios"])
         if whole:
             raise WorkbookError(validate.sort_problems(whole), found_warnings)
-        records = tuple(record for _, record in sorted(self.records, key=lambda x: x[0]))
-        source = Source(path=source.path, sha256=source.sha256, inputs=records)
+        source = Source(path=source.path, sha256=source.sha256, inputs=rec.sorted_records())
         return replace(plan, source=source), found_warnings
 
     def read_sheet(self, sheet: str, grid: Grid | None) -> None:
         item_fields = schema.sheet_fields(sheet)
         tables = [t for t in TABLES.values() if t.sheet == sheet]
         title = grid.title if grid is not None else sheet
-        item_header = _find_item_header(grid) if grid is not None and item_fields else None
+        item_header = find_item_header(grid) if grid is not None and item_fields else None
         table_headers = {
-            t.name: _find_table_header(grid, t.name) if grid is not None else None for t in tables
+            t.name: find_table_header(grid, t.name) if grid is not None else None for t in tables
         }
         starts = sorted(
             ([item_header.row] if item_header else [])
             + [h.row for h in table_headers.values() if h is not None]
         )
         if grid is not None and item_fields and item_header is None:
-            self.report(title, "", schema.ITEM_HEADER,
-                        f"a header row with '{schema.ITEM_HEADER}' and "
-                        f"'{schema.VALUE_HEADER}' (or '{schema.CENTRAL_HEADER}') columns",
+            self.report(title, "", ITEM_HEADER,
+                        f"a header row with '{ITEM_HEADER}' and "
+                        f"'{VALUE_HEADER}' (or '{CENTRAL_HEADER}') columns",
                         "no such row")
         if item_header is not None and grid is not None:
             self.read_items(grid, sheet, item_header, _next_start(starts, item_header.row))
         else:
             for f in item_fields:
-                for level in _levels(f):
+                for level in levels(f):
                     label = field_label(f, level)
                     self.items[(f.name, level)] = self.absent(f, level, title, label,
                                                               "no item block")
@@ -391,7 +195,7 @@ class _Reader:
                 continue
             self.read_table(grid, t.name, header, _next_start(starts, header.row))
 
-    def read_items(self, grid: Grid, sheet: str, header: _ItemHeader, stop: int | None) -> None:
+    def read_items(self, grid: Grid, sheet: str, header: ItemHeader, stop: int | None) -> None:
         fields = {normalise_header(f.label): f for f in schema.sheet_fields(sheet)}
         rows: dict[str, int] = {}
         for r in grid.rows:
@@ -403,12 +207,12 @@ class _Reader:
             value_cells = [grid.get(r, c) for c in header.cols.values()]
             if f is None:
                 if text and any(v is not None and not v.blank for v in value_cells):
-                    self.report(grid.title, _ref(r, header.item_col), schema.ITEM_HEADER,
+                    self.report(grid.title, ref(r, header.item_col), ITEM_HEADER,
                                 f"a label prepkit knows on the {sheet} sheet (the row is "
                                 "ignored)", show(label_raw), warning=True)
                 continue
             if f.name in rows:
-                self.report(grid.title, _ref(r, header.item_col), f.label,
+                self.report(grid.title, ref(r, header.item_col), f.label,
                             "one row for this item", f"a second row (also row {rows[f.name]})")
                 continue
             rows[f.name] = r
@@ -421,7 +225,7 @@ class _Reader:
                     self.report(grid.title, "", f.label,
                                 f"a row labelled '{f.label}' (its default {shown} is used)",
                                 "no such row", warning=True)
-                for level in _levels(f):
+                for level in levels(f):
                     got = self.absent(f, level, grid.title, field_label(f, level), why)
                     if f.required and f.default is None and level == "central":
                         self.report(grid.title, "", got.label, f.expected(), why)
@@ -429,29 +233,29 @@ class _Reader:
                 continue
             self.read_item_row(grid, f, header, r_found)
 
-    def read_item_row(self, grid: Grid, f: Field, header: _ItemHeader, r: int) -> None:
+    def read_item_row(self, grid: Grid, f: Field, header: ItemHeader, r: int) -> None:
         central_col = header.cols["central"]
-        central = self.got(f, "central", grid.title, _ref(r, central_col),
+        central = self.got(f, "central", grid.title, ref(r, central_col),
                            grid.get(r, central_col), field_label(f, "central"))
         self.items[(f.name, "central")] = central
         for level in ("low", "high"):
             col = header.cols.get(level)
             raw = grid.get(r, col) if col is not None else None
             if f.uncertain:
-                cell = _ref(r, col) if col is not None else ""
+                cell = ref(r, col) if col is not None else ""
                 self.items[(f.name, level)] = self.got(
                     f, level, grid.title, cell, raw, field_label(f, level), fallback=central)
             elif raw is not None and not raw.blank and col is not None:
-                self.report(grid.title, _ref(r, col), f.label,
+                self.report(grid.title, ref(r, col), f.label,
                             f"a blank cell ({f.label} has no Low or High); the value is not "
                             "used", show(raw), warning=True)
 
-    def read_table(self, grid: Grid, table: str, header: _TableHeader,
+    def read_table(self, grid: Grid, table: str, header: TableHeader,
                    stop: int | None) -> None:
         t = TABLES[table]
         self.table_found[table] = True
         for c in header.duplicates:
-            self.report(grid.title, _ref(header.row, c), text_of(grid.get(header.row, c)),
+            self.report(grid.title, ref(header.row, c), text_of(grid.get(header.row, c)),
                         "each column header once (the first one is read)", "a second column",
                         warning=True)
         columns = list(schema.table_columns(table))
@@ -472,7 +276,7 @@ class _Reader:
             if all(raw is None or raw.blank for raw in cells):
                 continue
             last_row = r
-            key_cell = _ref(r, key_col)
+            key_cell = ref(r, key_col)
             key_got = self.got(key_field, "central", grid.title, key_cell, grid.get(r, key_col),
                                key_field.label)
             key = format_value(key_field, key_got.value) if key_got.ok else ""
@@ -484,9 +288,9 @@ class _Reader:
                 gots.update(self.read_table_cell(grid, f, header, r, noun, label_key))
             rows.append(TableRow(sheet=grid.title, row=r, key=key, key_cell=key_cell, gots=gots))
         self.tables[table] = rows
-        self.empty_cells[table] = _ref(last_row + 1, key_col)
+        self.empty_cells[table] = ref(last_row + 1, key_col)
 
-    def read_table_cell(self, grid: Grid, f: Field, header: _TableHeader, r: int, noun: str,
+    def read_table_cell(self, grid: Grid, f: Field, header: TableHeader, r: int, noun: str,
                         key: str) -> dict[Key, Got]:
         gots: dict[Key, Got] = {}
         central: Got | None = None
@@ -499,478 +303,13 @@ class _Reader:
                 got = self.got(f, lv, grid.title, "", None, label, fallback=central,
                                missing=missing, quiet=True)
             else:
-                got = self.got(f, lv, grid.title, _ref(r, col), grid.get(r, col), label,
+                got = self.got(f, lv, grid.title, ref(r, col), grid.get(r, col), label,
                                fallback=central)
             if lv == "central":
                 central = got
             gots[(f.name, lv)] = got
         return gots
 
-    # -- contact matrices
-
-    def read_matrices(self, bands: Sequence[str] | None) -> dict[str, _Matrix] | None:
-        """Contact matrices when any matrix sheet is filled, else None."""
-        found = {setting: self.read_matrix_sheet(setting) for setting in MATRIX_SHEETS}
-        if not any(m is not None and m.filled for m in found.values()):
-            return None
-        self.matrices_intended = True
-        for setting, matrix in found.items():
-            sheet = MATRIX_SHEETS[setting]
-            if matrix is None:
-                self.report(sheet, "", sheet,
-                            "a filled contact-matrix sheet (fill all four or none)",
-                            self.missing(sheet))
-            elif matrix.header_row is None:
-                self.report(matrix.title, "", BAND_HEADER,
-                            f"a header row starting with '{BAND_HEADER}' and the band labels "
-                            "(fill all four contact sheets or none)", "no such row")
-            elif not matrix.filled:
-                self.report(matrix.title, _ref(matrix.header_row + 1, matrix.band_col + 1),
-                            MATRIX_FIELDS[setting].label,
-                            "a filled contact matrix (fill all four contact sheets or none)",
-                            "no numbers on this sheet")
-            elif bands is not None:
-                self.check_matrix(setting, matrix, bands)
-        complete = {s: m for s, m in found.items() if m is not None}
-        return complete if len(complete) == len(found) else None
-
-    def read_matrix_sheet(self, setting: str) -> _Matrix | None:
-        sheet = MATRIX_SHEETS[setting]
-        grid = self.grid(sheet)
-        if grid is None:
-            return None
-        band = normalise_header(BAND_HEADER)
-        for r in grid.rows:
-            for c, raw in sorted(grid.row(r).items()):
-                if normalise_header(text_of(raw)) == band:
-                    return _Matrix.scan(grid, r, c)
-        filled = any(isinstance(raw.value, int | float) and not isinstance(raw.value, bool)
-                     for raw in grid.cells.values())
-        return _Matrix(title=grid.title, grid=grid, header_row=None, band_col=0, filled=filled)
-
-    def check_matrix(self, setting: str, matrix: _Matrix, bands: Sequence[str]) -> None:
-        f = MATRIX_FIELDS[setting]
-        title = matrix.title
-        assert matrix.header_row is not None
-        by_key = {normalise_key(b): b for b in bands}
-        listing = ", ".join(bands)
-        label_field = FIELDS_BY_NAME["band.label"]
-
-        def labels(cells: Iterable[tuple[int, int]], where: str) -> dict[str, tuple[int, int]]:
-            seen: dict[str, tuple[int, int]] = {}
-            for r, c in cells:
-                raw = matrix.grid.get(r, c)
-                got = self.got(label_field, "central", title, _ref(r, c), raw,
-                               f"{BAND_HEADER} ({where})")
-                if not got.ok:
-                    continue
-                band = by_key.get(normalise_key(str(got.value)))
-                if band is None:
-                    self.report(title, _ref(r, c), f"{BAND_HEADER} ({where})",
-                                f"a band label from the Population sheet ({listing})", got.found)
-                elif band in seen:
-                    self.report(title, _ref(r, c), f"{BAND_HEADER} ({where})",
-                                f"each band once as a {where}", f"{band} again")
-                else:
-                    seen[band] = (r, c)
-            for b in bands:
-                if b not in seen:
-                    self.report(title, "", f"{BAND_HEADER} ({where})",
-                                f"a {where} labelled {b} (every Population band, as in a "
-                                "square matrix)", "none")
-            return seen
-
-        col_labels = labels(((matrix.header_row, c) for c in matrix.label_cols), "column")
-        row_labels = labels(((r, matrix.band_col) for r in matrix.label_rows), "row")
-        labelled_rows = {r for r, _ in row_labels.values()}
-        labelled_cols = {c for _, c in col_labels.values()}
-        for (r, c), raw in sorted(matrix.grid.cells.items()):
-            if r <= matrix.header_row or c <= matrix.band_col or raw.blank:
-                continue
-            if r not in labelled_rows or c not in labelled_cols:
-                if r in matrix.label_rows and c in matrix.label_cols:
-                    continue  # under a label already reported
-                where = "row" if r not in labelled_rows else "column"
-                self.report(title, _ref(r, c), f.label,
-                            f"no value outside the labelled bands (this {where} has no band "
-                            "label)", show(raw))
-        values: dict[tuple[str, str], Got] = {}
-        for row_band, (r, _) in row_labels.items():
-            for col_band, (_, c) in col_labels.items():
-                label = f"{f.label}, band {row_band} meeting band {col_band}"
-                values[(row_band, col_band)] = self.got(f, "central", title, _ref(r, c),
-                                                        matrix.grid.get(r, c), label)
-                if values[(row_band, col_band)].value is None and not values[
-                        (row_band, col_band)].bad:
-                    self.report(title, _ref(r, c), label,
-                                f"{f.expected()} (every cell of a filled matrix)", "a blank cell")
-        matrix.values = values
-
-    # -- cross-field checks
-
-    def check(self) -> _Checked | None:
-        items = self.items
-        self.problems += validate.check_levels(items)
-        for rows in self.tables.values():
-            for row in rows:
-                self.problems += validate.check_levels(row.gots)
-        self.problems += validate.check_transmissibility(items)
-        self.problems += validate.check_working_ages(items)
-        self.problems += validate.check_seasonal_peak(items)
-
-        band_rows: list[TableRow] = []
-        bands: list[str] | None = None
-        if self.table_found["bands"]:
-            found, band_rows = validate.check_bands(
-                self.tables["bands"], self.empty_cells["bands"], self.title(schema.POPULATION))
-            self.problems += found
-            # Labels good enough to match the per-band tables and matrices by, even when
-            # the ages have problems: every problem is then found in one pass.
-            keys = [normalise_key(row.key) for row in band_rows]
-            if (all(keys) and len(set(keys)) == len(keys)
-                    and len(keys) <= schema.MAX_BANDS):
-                bands = [row.key for row in band_rows]
-        per_band: dict[str, Mapping[str, TableRow]] = {}
-        matrices = self.read_matrices(bands)
-        for table in ("band_contacts", "band_disease", "band_severity"):
-            if table == "band_contacts" and self.matrices_intended:
-                if any(not g.blank for row in self.tables[table] for (name, _), g in
-                       row.gots.items() if name != TABLES[table].key):
-                    first = self.tables[table][0]
-                    self.report(first.sheet, first.key_cell,
-                                FIELDS_BY_NAME["band_contacts.mean_daily"].label,
-                                "blank simple contacts when the contact-matrix sheets are "
-                                "filled (the matrices are used)", "numbers in the table",
-                                warning=True)
-                continue
-            if bands is None or not self.table_found[table]:
-                continue
-            found_rows, by_band = validate.check_band_rows(
-                self.tables[table], bands, TABLES[table].key, self.empty_cells[table],
-                self.title(TABLES[table].sheet))
-            self.problems += found_rows
-            per_band[table] = by_band
-        if "band_contacts" in per_band:
-            contact_rows = list(per_band["band_contacts"].values())
-            self.problems += validate.check_setting_shares(contact_rows)
-            self.problems += validate.check_daily_contacts(contact_rows)
-        if "band_severity" in per_band and "band_disease" in per_band:
-            self.problems += validate.check_admitted_vs_symptomatic(
-                per_band["band_severity"], per_band["band_disease"])
-        day0 = items[("details.day0", "central")].value
-        horizon = items[("details.horizon_days", "central")].value
-        measure_rows = self.tables["measures"]
-        self.problems += validate.check_measures(
-            measure_rows, bands,
-            day0 if isinstance(day0, dt.date) else None,
-            horizon if isinstance(horizon, int) else None)
-        measure_names = [row.key for row in measure_rows if row.key]
-        if self.table_found["scenarios"]:
-            self.problems += validate.check_scenarios(
-                self.tables["scenarios"], measure_names, self.empty_cells["scenarios"],
-                self.title(schema.SCENARIOS))
-        self.problems += validate.check_observed(self.tables["observed"])
-        if self.errors or bands is None:
-            return None
-        return _Checked(bands=band_rows, per_band=per_band, matrices=matrices)
-
-    # -- building the plan
-
-    def use(self, got: Got, unit: str | None = None) -> Any:
-        """Value of an input that the plan uses (recorded for the appendix).
-
-        ``unit`` overrides the field's unit where the row decides it (trigger
-        levels: ``"%"`` of beds or ``"per day"``).
-        """
-        f = got.field
-        if f.type == "choice" and isinstance(got.value, str):
-            shown = schema.choice_shown(f, got.value)
-        elif unit == "%" and isinstance(got.value, int | float):
-            shown = f"{100 * got.value:.4g}%"
-        else:
-            shown = format_value(f, got.value)
-        self.records.append((_record_order(got), InputRecord(
-            sheet=got.sheet, cell=got.cell, name=f.name, label=got.label, value=shown,
-            unit=f.unit if unit is None else unit, defaulted=got.defaulted,
-        )))
-        return got.value
-
-    def use3(self, gots: Mapping[Key, Got], name: str, noun: str = "", key: str = "") -> Range3:
-        """Low / Central / High of an uncertain input (one record)."""
-        low, central, high = (gots[(name, level)] for level in LEVELS)
-        value = Range3(low=_float(low.value), central=_float(central.value),
-                       high=_float(high.value))
-        f = central.field
-        shown = format_value(f, value.central)
-        if not value.is_point:
-            shown += f" (low {format_value(f, value.low)}, high {format_value(f, value.high)})"
-        self.records.append((_record_order(central), InputRecord(
-            sheet=central.sheet, cell=central.cell, name=name, label=field_label(f, None, noun,
-                                                                                 key),
-            value=shown, unit=f.unit, defaulted=central.defaulted,
-        )))
-        return value
-
-    def maybe3(self, gots: Mapping[Key, Got], name: str) -> Range3 | None:
-        if gots[(name, "central")].value is None:
-            return None
-        return self.use3(gots, name)
-
-    def build(self, checked: _Checked) -> Plan:
-        it = self.items
-
-        def item(name: str) -> Any:
-            return self.use(it[(name, "central")])
-
-        details = Details(
-            jurisdiction=item("details.jurisdiction"), title=item("details.title"),
-            prepared_by=item("details.prepared_by"), day0=item("details.day0"),
-            horizon_days=item("details.horizon_days"), draws=item("details.draws"),
-            seed=item("details.seed"), page_size=cast(PageSize, item("details.page_size")),
-        )
-        band_rows = checked.bands
-        bands = tuple(
-            AgeBand(
-                label=str(self.use(row.get("band.label"))),
-                lower_age=self.use(row.get("band.lower_age")),
-                upper_age=self.use(row.get("band.upper_age")),
-                people=float(self.use(row.get("band.people"))),
-                high_risk_share=self.use(row.get("band.high_risk_share")),
-            )
-            for row in band_rows
-        )
-        labels = [b.label for b in bands]
-        contacts = self.build_contacts(checked, labels)
-        drows = [checked.per_band["band_disease"][b] for b in labels]
-        srows = [checked.per_band["band_severity"][b] for b in labels]
-        noun = "band"
-        disease = Disease(
-            r0=self.maybe3(it, "disease.r0"),
-            doubling_time_days=self.maybe3(it, "disease.doubling_time_days"),
-            growth_rate_per_day=self.maybe3(it, "disease.growth_rate_per_day"),
-            latent_period_days=self.use3(it, "disease.latent_period_days"),
-            latent_stages=item("disease.latent_stages"),
-            infectious_period_days=self.use3(it, "disease.infectious_period_days"),
-            infectious_stages=item("disease.infectious_stages"),
-            symptomatic_share=tuple(
-                self.use3(r.gots, "band_disease.symptomatic_share", noun, r.key) for r in drows),
-            asymptomatic_relative_infectiousness=float(
-                item("disease.asymptomatic_relative_infectiousness")),
-            relative_susceptibility=tuple(
-                float(self.use(r.get("band_disease.relative_susceptibility"))) for r in drows),
-            prior_immunity=tuple(
-                float(self.use(r.get("band_disease.prior_immunity"))) for r in drows),
-            seasonal_amplitude=float(item("disease.seasonal_amplitude")),
-            seasonal_peak=self.used_if_given(it[("disease.seasonal_peak", "central")]),
-            initial_infections=float(item("disease.initial_infections")),
-            daily_importations=float(item("disease.daily_importations")),
-        )
-
-        def per_band3(name: str) -> tuple[Range3, ...]:
-            return tuple(self.use3(r.gots, name, noun, r.key) for r in srows)
-
-        def per_band(name: str) -> tuple[float, ...]:
-            return tuple(float(self.use(r.get(name))) for r in srows)
-
-        severity = Severity(
-            admitted_share=per_band3("band_severity.admitted_share"),
-            icu_share=per_band3("band_severity.icu_share"),
-            ward_fatality=per_band("band_severity.ward_fatality"),
-            icu_fatality=per_band("band_severity.icu_fatality"),
-            onset_to_admission_days=per_band("band_severity.onset_to_admission_days"),
-            ward_stay_days=per_band3("band_severity.ward_stay_days"),
-            icu_stay_days=per_band3("band_severity.icu_stay_days"),
-            admission_delay_stages=item("severity.admission_delay_stages"),
-            ward_stages=item("severity.ward_stages"),
-            icu_stages=item("severity.icu_stages"),
-        )
-        capacity = Capacity(
-            ward_beds=item("capacity.ward_beds"), icu_beds=item("capacity.icu_beds"),
-            ventilators=self.used_if_given(it[("capacity.ventilators", "central")]),
-            ventilated_icu_share=float(item("capacity.ventilated_icu_share")),
-            ward_baseline_occupancy=float(item("capacity.ward_baseline_occupancy")),
-            icu_baseline_occupancy=float(item("capacity.icu_baseline_occupancy")),
-            surge_ward_beds=item("capacity.surge_ward_beds"),
-            surge_icu_beds=item("capacity.surge_icu_beds"),
-            surge_days_to_open=float(item("capacity.surge_days_to_open")),
-            surge_trigger_occupancy=float(item("capacity.surge_trigger_occupancy")),
-            catchment_share=float(item("capacity.catchment_share")),
-        )
-        workforce = Workforce(
-            working_age_min=item("workforce.working_age_min"),
-            working_age_max=item("workforce.working_age_max"),
-            employed_share=float(item("workforce.employed_share")),
-            days_absent_per_illness=float(item("workforce.days_absent_per_illness")),
-            carer_share_school_closure=float(item("workforce.carer_share_school_closure")),
-        )
-        interventions = tuple(self.build_measure(row, labels) for row in self.tables["measures"])
-        names = {normalise_key(m.name): m.name for m in interventions}
-        scenarios = tuple(self.build_scenario(row, names) for row in self.tables["scenarios"])
-        observed = tuple(
-            Observation(
-                date=self.use(row.get("observed.date")),
-                admissions=self.used_if_given(row.get("observed.admissions"), float),
-                ward_census=self.used_if_given(row.get("observed.ward_census"), float),
-                icu_census=self.used_if_given(row.get("observed.icu_census"), float),
-            )
-            for row in self.tables["observed"]
-        )
-        return Plan(details=details, bands=bands, contacts=contacts, disease=disease,
-                    severity=severity, capacity=capacity, workforce=workforce,
-                    interventions=interventions, scenarios=scenarios, observed=observed)
-
-    def used_if_given(self, got: Got, kind: Any = None) -> Any:
-        if got.value is None:
-            return None
-        value = self.use(got)
-        return kind(value) if kind is not None else value
-
-    def build_contacts(self, checked: _Checked, labels: Sequence[str]) -> Contacts:
-        assortativity = float(self.use(self.items[("mixing.assortativity", "central")]))
-        if checked.matrices is not None:
-            matrices: dict[Setting, tuple[tuple[float, ...], ...]] = {}
-            for setting in SETTINGS:
-                matrix = checked.matrices[setting]
-                values = matrix.values
-                matrices[setting] = tuple(
-                    tuple(float(self.use(values[(a, b)])) for b in labels) for a in labels)
-            return Contacts(matrices=matrices, assortativity=assortativity)
-        rows = [checked.per_band["band_contacts"][b] for b in labels]
-        return Contacts(
-            mean_daily=tuple(float(self.use(r.get("band_contacts.mean_daily"))) for r in rows),
-            assortativity=assortativity,
-            setting_shares=tuple(
-                {s: float(self.use(r.get(f"band_contacts.{s}_share"))) for s in _SHARE_SETTINGS}
-                for r in rows
-            ),
-        )
-
-    def build_measure(self, row: TableRow, labels: Sequence[str]) -> Intervention:
-        name = str(self.use(row.get("measure.name")))
-        kind = cast(InterventionKind, self.use(row.get("measure.kind")))
-        start_kind = cast(StartKind, self.use(row.get("measure.start_rule")))
-        end_kind = cast(EndKind, self.use(row.get("measure.end_rule")))
-        level_unit = "per day" if start_kind == "admissions" else "%"
-        if start_kind == "date":
-            start = Start(kind="date", date=self.use(row.get("measure.start_date")))
-        else:
-            start = Start(kind=start_kind,
-                          level=float(self.use(row.get("measure.start_level"), level_unit)))
-        if end_kind == "date":
-            end = End(kind="date", date=self.use(row.get("measure.end_date")))
-        elif end_kind == "duration":
-            end = End(kind="duration",
-                      duration_days=float(self.use(row.get("measure.duration_days"))))
-        elif end_kind == "release":
-            end = End(kind="release",
-                      level=float(self.use(row.get("measure.release_level"), level_unit)))
-        else:
-            end = End(kind="horizon")
-        noun, key = "measure", row.key
-        kept: dict[Setting, float] = {}
-        vaccination = None
-        isolation = None
-        if kind == "contacts":
-            for setting in SETTINGS:
-                got = row.get(f"measure.{setting}_kept")
-                if not got.blank:
-                    kept[setting] = float(self.use(got))
-        elif kind == "vaccination":
-            by_key = {normalise_key(b): i for i, b in enumerate(labels)}
-            priority = self.use(row.get("measure.priority"))
-            vaccination = Vaccination(
-                doses_per_day=float(self.use(row.get("measure.doses_per_day"))),
-                priority=tuple(by_key[normalise_key(str(b))] for b in priority),
-                uptake_ceiling=float(self.use(row.get("measure.uptake_ceiling"))),
-                efficacy_infection=self.use3(row.gots, "measure.efficacy_infection", noun, key),
-                efficacy_severe=self.use3(row.gots, "measure.efficacy_severe", noun, key),
-                days_to_protection=float(self.use(row.get("measure.days_to_protection"))),
-            )
-        else:
-            isolation = Isolation(
-                isolated_share=float(self.use(row.get("measure.isolated_share"))),
-                days_from_onset=float(self.use(row.get("measure.days_from_onset"))),
-            )
-        compliance = self.use3(row.gots, "measure.compliance", noun, key)
-        return Intervention(name=name, kind=kind, start=start, end=end, contacts_kept=kept,
-                            vaccination=vaccination, isolation=isolation, compliance=compliance)
-
-    def build_scenario(self, row: TableRow, names: Mapping[str, str]) -> Scenario:
-        listed = self.use(row.get("scenario.interventions"))
-        chosen: list[str] = []
-        for entry in listed:
-            name = names[normalise_key(str(entry))]
-            if name not in chosen:
-                chosen.append(name)
-        return Scenario(
-            name=str(self.use(row.get("scenario.name"))),
-            transmissibility_level=cast(Level,
-                                        self.use(row.get("scenario.transmissibility_level"))),
-            severity_level=cast(Level, self.use(row.get("scenario.severity_level"))),
-            interventions=tuple(chosen),
-            description=str(self.use(row.get("scenario.description"))),
-        )
-
-
-# ---- Helpers ---------------------------------------------------------------------------------
-
-@dataclass
-class _Matrix:
-    """What a contact-matrix sheet holds around its ``Band`` header."""
-
-    title: str
-    grid: Grid
-    header_row: int | None
-    band_col: int
-    filled: bool
-    label_cols: tuple[int, ...] = ()
-    label_rows: tuple[int, ...] = ()
-    values: dict[tuple[str, str], Got] = field(default_factory=dict)
-
-    @classmethod
-    def scan(cls, grid: Grid, header_row: int, band_col: int) -> _Matrix:
-        label_cols = tuple(c for c, raw in sorted(grid.row(header_row).items())
-                           if c > band_col and not raw.blank)
-        label_rows = tuple(r for r in grid.rows if r > header_row
-                           and (raw := grid.get(r, band_col)) is not None and not raw.blank)
-        filled = any(r > header_row and c > band_col and not raw.blank
-                     for (r, c), raw in grid.cells.items())
-        return cls(title=grid.title, grid=grid, header_row=header_row, band_col=band_col,
-                   filled=filled, label_cols=label_cols, label_rows=label_rows)
-
-
-@dataclass(frozen=True)
-class _Checked:
-    """What the plan is built from once every check has passed."""
-
-    bands: list[TableRow]
-    per_band: dict[str, Mapping[str, TableRow]]
-    matrices: dict[str, _Matrix] | None
-
-
-def _levels(f: Field) -> tuple[Level, ...]:
-    return LEVELS if f.uncertain else ("central",)
-
-
-def _default(f: Field) -> object:
-    default = f.default
-    if f.type == "choice" and isinstance(default, str):
-        return (f.choices or {}).get(default, default)
-    if f.type == "list" and isinstance(default, list | tuple):
-        return tuple(default)
-    return default
-
 
 def _next_start(starts: Sequence[int], row: int) -> int | None:
     return next((s for s in starts if s > row), None)
-
-
-def _record_order(got: Got) -> tuple[int, int, int, int]:
-    row, col = validate.cell_position(got.cell)
-    level = {"low": 0, "central": 1, "high": 2}[got.level]
-    return (validate.sheet_index(got.sheet), row, col, level)
-
-
-def _float(value: object) -> float:
-    assert isinstance(value, int | float) and not isinstance(value, bool), value
-    return float(value)

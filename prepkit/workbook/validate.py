@@ -12,21 +12,14 @@ already reported unreadable, so one mistake gives one message.
 
 from __future__ import annotations
 
-import datetime as dt
 import re
 from collections.abc import Iterable, Mapping, Sequence
 
 from prepkit.errors import Problem
-from prepkit.plan import LEVELS, SETTINGS
-from prepkit.workbook import schema
-from prepkit.workbook.cells import Got, Key, TableRow, normalise_key, percent_hint
-from prepkit.workbook.schema import (
-    FIELDS_BY_NAME,
-    MAX_BANDS,
-    SHEET_ORDER,
-    TRANSMISSIBILITY_FIELDS,
-    format_value,
-)
+from prepkit.plan import LEVELS
+from prepkit.workbook.cells import Got, Key, TableRow, normalise_key
+from prepkit.workbook.schema import FIELDS_BY_NAME, MAX_BANDS, TRANSMISSIBILITY_FIELDS, format_value
+from prepkit.workbook.sheets import INSTRUCTIONS_SHEET, SHEET_ORDER
 
 __all__ = [
     "problem",
@@ -42,13 +35,12 @@ __all__ = [
     "check_daily_contacts",
     "check_working_ages",
     "check_seasonal_peak",
-    "check_measures",
-    "check_scenarios",
-    "check_observed",
+    "duplicate_keys",
+    "number_of",
+    "shown",
 ]
 
 _CELL = re.compile(r"^([A-Z]+)(\d+)$")
-_OCCUPANCY_EXPECTED = "a share of the beds between 0 and 1 (e.g. 80% or 0.8)"
 
 
 def problem(got: Got, expected: str, found: str | None = None, *, warning: bool = False) -> Problem:
@@ -77,7 +69,7 @@ def sheet_index(sheet: str) -> int:
     if not sheet:
         return -2
     key = normalise_key(sheet)
-    if key == normalise_key(schema.INSTRUCTIONS_SHEET):
+    if key == normalise_key(INSTRUCTIONS_SHEET):
         return -1
     for i, name in enumerate(SHEET_ORDER):
         if normalise_key(name) == key:
@@ -96,14 +88,16 @@ def cell_position(cell: str) -> tuple[int, int]:
     return int(match[2]), col
 
 
-def _show(got: Got, value: object) -> str:
+def shown(got: Got, value: object) -> str:
+    """A value as the planner wrote it (a percentage when it was typed as one)."""
     if got.percent or got.field.type == "share":
         if isinstance(value, float | int):
             return f"{100 * value:.6g}%"
     return format_value(got.field, value)
 
 
-def _num(got: Got) -> float | None:
+def number_of(got: Got) -> float | None:
+    """Numeric value of an input, or None when blank, unreadable or not a number."""
     """Numeric value of a readable input, else None."""
     value = got.value
     if got.bad or isinstance(value, bool) or not isinstance(value, int | float):
@@ -136,14 +130,14 @@ def check_levels(gots: Mapping[Key, Got]) -> list[Problem]:
                         f"{side.found} with Central blank",
                     ))
             continue
-        c = _num(central)
-        lo, hi = _num(low), _num(high)
+        c = number_of(central)
+        lo, hi = number_of(low), number_of(high)
         if c is None:
             continue
         if lo is not None and not low.blank and lo > c:
-            problems.append(problem(low, f"at most the Central value ({_show(central, c)})"))
+            problems.append(problem(low, f"at most the Central value ({shown(central, c)})"))
         if hi is not None and not high.blank and hi < c:
-            problems.append(problem(high, f"at least the Central value ({_show(central, c)})"))
+            problems.append(problem(high, f"at least the Central value ({shown(central, c)})"))
     return problems
 
 
@@ -180,18 +174,18 @@ def check_bands(
         extra = rows[MAX_BANDS]
         problems.append(problem(extra.get("band.label"), f"at most {MAX_BANDS} bands",
                                 f"{len(rows)} bands"))
-    problems += _duplicate_keys(rows, "band.label", "a band label used once")
+    problems += duplicate_keys(rows, "band.label", "a band label used once")
     lowers = [row.get("band.lower_age") for row in rows]
-    if any(_num(g) is None for g in lowers):
+    if any(number_of(g) is None for g in lowers):
         return problems, list(rows)
-    ordered = sorted(rows, key=lambda row: _num(row.get("band.lower_age")) or 0.0)
+    ordered = sorted(rows, key=lambda row: number_of(row.get("band.lower_age")) or 0.0)
     first = ordered[0].get("band.lower_age")
-    if _num(first) != 0:
+    if number_of(first) != 0:
         problems.append(problem(first, "0 for the youngest band (bands start at age 0)"))
     for i, row in enumerate(ordered):
-        lower = _num(row.get("band.lower_age"))
+        lower = number_of(row.get("band.lower_age"))
         upper_got = row.get("band.upper_age")
-        upper = _num(upper_got)
+        upper = number_of(upper_got)
         last = i == len(ordered) - 1
         if upper_got.blank and not last:
             problems.append(problem(
@@ -202,7 +196,7 @@ def check_bands(
             # A gap or an overlap is shown at both ends: the planner may have changed either.
             following = ordered[i + 1]
             nxt = following.get("band.lower_age")
-            next_lower = _num(nxt)
+            next_lower = number_of(nxt)
             want = upper + 1
             if next_lower != want:
                 label = row.key or "above"
@@ -252,7 +246,8 @@ def check_band_rows(
     return problems, found
 
 
-def _duplicate_keys(rows: Sequence[TableRow], key_name: str, expected: str) -> list[Problem]:
+def duplicate_keys(rows: Sequence[TableRow], key_name: str, expected: str) -> list[Problem]:
+    """A problem for each row whose key repeats an earlier row's."""
     problems: list[Problem] = []
     seen: dict[str, TableRow] = {}
     for row in rows:
@@ -295,13 +290,13 @@ def check_admitted_vs_symptomatic(
         for level in LEVELS:
             admitted = srow.get("band_severity.admitted_share", level)
             symptomatic = drow.get("band_disease.symptomatic_share", level)
-            a, s = _num(admitted), _num(symptomatic)
+            a, s = number_of(admitted), number_of(symptomatic)
             if a is not None and s is not None and a > s:
                 where = Problem(symptomatic.sheet, symptomatic.cell, "", "", "").where
                 problems.append(problem(
                     admitted,
-                    f"at most the share with symptoms ({_show(symptomatic, s)}, {where})",
-                    _show(admitted, a),
+                    f"at most the share with symptoms ({shown(symptomatic, s)}, {where})",
+                    shown(admitted, a),
                 ))
     return problems
 
@@ -311,7 +306,7 @@ def check_setting_shares(rows: Iterable[TableRow]) -> list[Problem]:
     problems: list[Problem] = []
     for row in rows:
         gots = [row.get(f"band_contacts.{s}_share") for s in ("home", "school", "work")]
-        values = [_num(g) for g in gots]
+        values = [number_of(g) for g in gots]
         if any(v is None for v in values):
             continue
         total = sum(v for v in values if v is not None)
@@ -338,7 +333,7 @@ def check_working_ages(items: Mapping[Key, Got]) -> list[Problem]:
     """The youngest working age is not above the oldest."""
     low = items[("workforce.working_age_min", "central")]
     high = items[("workforce.working_age_max", "central")]
-    lo, hi = _num(low), _num(high)
+    lo, hi = number_of(low), number_of(high)
     if lo is not None and hi is not None and lo > hi:
         return [problem(high, f"at least the youngest working age ({lo:g})")]
     return []
@@ -346,7 +341,7 @@ def check_working_ages(items: Mapping[Key, Got]) -> list[Problem]:
 
 def check_seasonal_peak(items: Mapping[Key, Got]) -> list[Problem]:
     """A seasonal swing above 0% needs the date of the seasonal peak."""
-    swing = _num(items[("disease.seasonal_amplitude", "central")])
+    swing = number_of(items[("disease.seasonal_amplitude", "central")])
     peak = items[("disease.seasonal_peak", "central")]
     if swing is not None and swing > 0 and peak.value is None and not peak.bad:
         return [problem(peak, "a date, because the seasonal swing is above 0%")]
@@ -354,192 +349,3 @@ def check_seasonal_peak(items: Mapping[Key, Got]) -> list[Problem]:
 
 
 # ---- Measures ---------------------------------------------------------------------------------
-
-def check_measures(
-    rows: Sequence[TableRow],
-    bands: Sequence[str] | None,
-    day0: dt.date | None,
-    horizon: int | None,
-) -> list[Problem]:
-    """Measure rows: unique names and complete, consistent kind, start and end columns.
-
-    ``bands`` is None when the Population bands could not be read (band
-    orders are then not checked). Returns errors and warnings
-    (``severity="warning"``).
-    """
-    problems = _duplicate_keys(rows, "measure.name", "a measure name used once")
-    for row in rows:
-        name = row.get("measure.name")
-        if isinstance(name.value, str) and re.search(r"[;,]", name.value):
-            problems.append(problem(
-                name, "a name without ';' or ',' (the Scenarios sheet lists names with them)"))
-        problems += _check_start_end(row, day0, horizon)
-        kind = row.get("measure.kind").value
-        if kind == "contacts":
-            problems += _check_contacts_kept(row)
-        elif kind == "vaccination":
-            problems += _check_vaccination(row, bands)
-        elif kind == "isolation":
-            problems += _need(row, "measure.isolated_share", "isolation of cases")
-    return problems
-
-
-def _need(row: TableRow, name: str, what: str) -> list[Problem]:
-    got = row.get(name)
-    if got.value is None and not got.bad:
-        return [problem(got, f"{got.field.expected()} (needed for {what})")]
-    return []
-
-
-def _check_start_end(row: TableRow, day0: dt.date | None, horizon: int | None) -> list[Problem]:
-    problems: list[Problem] = []
-    start_rule = row.get("measure.start_rule")
-    end_rule = row.get("measure.end_rule")
-    start_date = row.get("measure.start_date")
-    start_level = row.get("measure.start_level")
-    end_date = row.get("measure.end_date")
-    duration = row.get("measure.duration_days")
-    release = row.get("measure.release_level")
-    start = start_rule.value
-    end = end_rule.value
-    shown_start = start_rule.found if not start_rule.defaulted else "On a date (the default)"
-    if start == "date":
-        problems += _need(row, "measure.start_date", "a measure that starts on a date")
-        problems += _unused(start_level, "the measure starts on a date")
-        day = start_date.value
-        if (isinstance(day, dt.date) and day0 is not None and horizon is not None
-                and not start_date.bad and day > day0 + dt.timedelta(days=horizon)):
-            last = day0 + dt.timedelta(days=horizon)
-            problems.append(problem(
-                start_date, f"a start date within the horizon (up to {last.isoformat()}); the "
-                "measure never starts", warning=True))
-    elif isinstance(start, str):
-        problems += _need(row, "measure.start_level", f"a measure that starts when {shown_start}")
-        problems += _unused(start_date, "the measure starts on a level")
-        problems += _check_level(start_level, str(start))
-    if end == "date":
-        problems += _need(row, "measure.end_date", "a measure that ends on a date")
-        s, e = start_date.value, end_date.value
-        if (start == "date" and isinstance(s, dt.date) and isinstance(e, dt.date)
-                and not end_date.bad and e <= s):
-            problems.append(problem(end_date, f"a date after the start date ({s.isoformat()})"))
-    elif end == "duration":
-        problems += _need(row, "measure.duration_days", "a measure that lasts a number of days")
-    elif end == "release":
-        if start == "date":
-            problems.append(problem(
-                end_rule,
-                "an end rule other than 'When the level falls to' (it needs a measure that "
-                "starts when a level is reached)",
-            ))
-        elif isinstance(start, str):
-            problems += _need(row, "measure.release_level", "a measure that ends on a level")
-            problems += _check_level(release, start)
-            r, s_level = _num(release), _num(start_level)
-            if r is not None and s_level is not None and r >= s_level:
-                problems.append(problem(
-                    release, f"a level below the start level ({_show(start_level, s_level)})",
-                    _show(release, r)))
-    if end != "date":
-        problems += _unused(end_date, "the measure does not end on a date")
-    if end != "duration":
-        problems += _unused(duration, "the measure does not end after a number of days")
-    if end != "release":
-        problems += _unused(release, "the measure does not end on a level")
-    return problems
-
-
-def _unused(got: Got, why: str) -> list[Problem]:
-    if got.blank or got.bad:
-        return []
-    return [problem(got, f"a blank cell ({why}); the value is not used", warning=True)]
-
-
-def _check_level(got: Got, start: str) -> list[Problem]:
-    value = _num(got)
-    if value is None:
-        return []
-    if start.endswith("_occupancy"):
-        if value > 1:
-            hint = percent_hint(value)
-            return [problem(got, _OCCUPANCY_EXPECTED,
-                            f"{got.found} ({hint})" if hint else None)]
-    elif got.percent:
-        return [problem(got, "a number of admissions per day (not a percentage)")]
-    return []
-
-
-def _check_contacts_kept(row: TableRow) -> list[Problem]:
-    kept = [row.get(f"measure.{s}_kept") for s in SETTINGS]
-    if all(_num(g) is not None and (_num(g) or 0.0) >= 1 for g in kept):
-        return [problem(
-            kept[0],
-            "a share of contacts kept below 100% in at least one setting; as it stands the "
-            "measure changes nothing",
-            "100% kept in every setting",
-            warning=True,
-        )]
-    return []
-
-
-def _check_vaccination(row: TableRow, bands: Sequence[str] | None) -> list[Problem]:
-    problems: list[Problem] = []
-    for name in ("measure.doses_per_day", "measure.priority", "measure.uptake_ceiling",
-                 "measure.efficacy_infection", "measure.efficacy_severe"):
-        problems += _need(row, name, "vaccination")
-    priority = row.get("measure.priority")
-    if isinstance(priority.value, tuple) and not priority.bad and bands is not None:
-        if not priority.value:
-            problems += [problem(priority, f"{priority.field.expected()} (needed for "
-                                           "vaccination)")]
-        by_key = {normalise_key(b): b for b in bands}
-        seen: set[str] = set()
-        for entry in priority.value:
-            band = by_key.get(normalise_key(str(entry)))
-            if band is None:
-                problems.append(problem(
-                    priority, f"band labels from the Population sheet ({', '.join(bands)})",
-                    f'"{entry}", which is not a band'))
-            elif band in seen:
-                problems.append(problem(priority, "each band once", f'"{entry}" twice'))
-            seen.add(band or "")
-    for level in LEVELS:
-        infection = row.get("measure.efficacy_infection", level)
-        severe = row.get("measure.efficacy_severe", level)
-        i, s = _num(infection), _num(severe)
-        if i is not None and s is not None and s < i:
-            problems.append(problem(
-                severe, f"at least the efficacy against infection ({_show(infection, i)})",
-                _show(severe, s)))
-            break
-    return problems
-
-
-# ---- Scenarios and observed days --------------------------------------------------------------
-
-def check_scenarios(
-    rows: Sequence[TableRow], measures: Sequence[str], empty_cell: str, sheet: str
-) -> list[Problem]:
-    """At least one scenario, unique names, and every measure named exists."""
-    if not rows:
-        return [Problem(sheet, empty_cell, FIELDS_BY_NAME["scenario.name"].label,
-                        "at least one scenario", "no scenarios")]
-    problems = _duplicate_keys(rows, "scenario.name", "a scenario name used once")
-    known = {normalise_key(m) for m in measures}
-    listing = ", ".join(measures) if measures else "none are given"
-    for row in rows:
-        got = row.get("scenario.interventions")
-        if not isinstance(got.value, tuple) or got.bad:
-            continue
-        for entry in got.value:
-            if normalise_key(str(entry)) not in known:
-                problems.append(problem(
-                    got, f"names from the Measures sheet ({listing})",
-                    f'"{entry}", which is not a measure'))
-    return problems
-
-
-def check_observed(rows: Sequence[TableRow]) -> list[Problem]:
-    """One row per observed date."""
-    return _duplicate_keys(rows, "observed.date", "one row per date")
-

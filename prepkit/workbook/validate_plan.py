@@ -24,7 +24,8 @@ from collections.abc import Mapping, Sequence
 from prepkit.errors import Problem
 from prepkit.plan import Plan
 from prepkit.workbook.cells import Got, Key, TableRow
-from prepkit.workbook.schema import FIELDS_BY_NAME, MATRIX_SHEETS, TABLES
+from prepkit.workbook.schema import FIELDS_BY_NAME, TABLES
+from prepkit.workbook.sheets import MATRIX_SHEETS
 
 __all__ = ["check_one_vaccine", "check_plan", "check_seeding", "check_transmission"]
 

@@ -61,10 +61,10 @@ def test_capacity_columns_use_catchment_and_baseline() -> None:
 
 def test_working_age_overlap_and_open_band() -> None:
     bands = make_bands((1.0,) * 8)  # 0-9, ..., 60-69, 70+
-    weights = working_age_weights(bands, 18, 64)
+    weights = working_age_weights(bands, 18, 64, 10)
     assert_allclose(weights, [0.0, 0.2, 1.0, 1.0, 1.0, 1.0, 0.5, 0.0])
     top = working_age_weights((AgeBand(label="60+", lower_age=60, upper_age=None, people=1.0),),
-                              18, 64)
+                              18, 64, 10)
     assert_allclose(top, [0.5])  # open band taken as 10 years wide
 
 

@@ -12,7 +12,8 @@ import pytest
 from factories import banded_plan
 
 from prepkit.metrics.capacity import BedMetrics
-from prepkit.plan import End, InputRecord, Isolation, Start
+from prepkit.plan import End, Isolation, Start
+from prepkit.plan.records import InputRecord
 from prepkit.report import context as words
 from prepkit.scenarios.runs import run_plan
 

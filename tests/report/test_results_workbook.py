@@ -22,7 +22,7 @@ import pytest
 from factories import banded_plan
 
 from prepkit.pipeline.summary import summary_dict
-from prepkit.plan import InputRecord, Source
+from prepkit.plan.records import InputRecord, Source
 from prepkit.report import results_workbook as rw
 from prepkit.report import results_workbook_columns_scenarios as cols
 from prepkit.report.results_workbook_columns import SheetColumns

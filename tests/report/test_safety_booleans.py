@@ -22,8 +22,8 @@ import pytest
 from conftest import Editor
 
 from prepkit.errors import Problem, WorkbookError
-from prepkit.workbook import schema
 from prepkit.workbook.reader import read_plan
+from prepkit.workbook.sheets import HOSPITALS, PLAN, POPULATION
 
 
 def _sheet_part(archive: zipfile.ZipFile, title: str) -> str:
@@ -74,11 +74,11 @@ def _problems(path: Path) -> tuple[Problem, ...]:
 def test_true_in_a_number_cell_saved_by_libreoffice_is_reported_at_that_cell(
     editor: Editor, tmp_path: Path
 ) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds").coordinate
-    saved = _as_saved(editor.save(), tmp_path / "lo.xlsx", schema.HOSPITALS, cell,
+    cell = editor.item(HOSPITALS, "Staffed ward beds").coordinate
+    saved = _as_saved(editor.save(), tmp_path / "lo.xlsx", HOSPITALS, cell,
                       _libreoffice(True))
     [problem] = _problems(saved)
-    assert (problem.sheet, problem.cell) == (schema.HOSPITALS, cell)
+    assert (problem.sheet, problem.cell) == (HOSPITALS, cell)
     assert problem.expected == "a whole number between 0 and 1,000,000"
     assert problem.found == "TRUE"
 
@@ -86,12 +86,12 @@ def test_true_in_a_number_cell_saved_by_libreoffice_is_reported_at_that_cell(
 def test_false_in_a_band_label_is_reported_at_the_label_not_as_band_0(
     editor: Editor, tmp_path: Path
 ) -> None:
-    cell = editor.table(schema.POPULATION, "Band", "0-17").coordinate
-    saved = _as_saved(editor.save(), tmp_path / "lo.xlsx", schema.POPULATION, cell,
+    cell = editor.table(POPULATION, "Band", "0-17").coordinate
+    saved = _as_saved(editor.save(), tmp_path / "lo.xlsx", POPULATION, cell,
                       _libreoffice(False))
     problems = _problems(saved)
     assert [(p.sheet, p.cell, p.found) for p in problems] == [
-        (schema.POPULATION, cell, "FALSE")], "\n".join(map(str, problems))
+        (POPULATION, cell, "FALSE")], "\n".join(map(str, problems))
     assert not any('"0"' in p.found or "band 0" in p.field for p in problems)
 
 
@@ -105,8 +105,8 @@ def test_false_in_a_band_label_is_reported_at_the_label_not_as_band_0(
 def test_every_way_a_boolean_is_saved_reads_as_true(
     editor: Editor, tmp_path: Path, xml: str
 ) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds").coordinate
-    saved = _as_saved(editor.save(), tmp_path / "b.xlsx", schema.HOSPITALS, cell, xml)
+    cell = editor.item(HOSPITALS, "Staffed ward beds").coordinate
+    saved = _as_saved(editor.save(), tmp_path / "b.xlsx", HOSPITALS, cell, xml)
     [problem] = _problems(saved)
     assert (problem.cell, problem.found) == (cell, "TRUE")
 
@@ -115,10 +115,10 @@ def test_booleans_in_share_text_and_date_cells_are_reported_too(
     editor: Editor, tmp_path: Path
 ) -> None:
     cells = {
-        (schema.HOSPITALS, editor.item(schema.HOSPITALS,
+        (HOSPITALS, editor.item(HOSPITALS,
                                        "Ward beds used by other patients").coordinate): True,
-        (schema.PLAN, editor.item(schema.PLAN, "Jurisdiction").coordinate): False,
-        (schema.PLAN, editor.item(schema.PLAN, "Day 0 date").coordinate): True,
+        (PLAN, editor.item(PLAN, "Jurisdiction").coordinate): False,
+        (PLAN, editor.item(PLAN, "Day 0 date").coordinate): True,
     }
     path = editor.save()
     for number, ((sheet, cell), value) in enumerate(cells.items()):
@@ -130,8 +130,8 @@ def test_booleans_in_share_text_and_date_cells_are_reported_too(
 def test_a_formula_with_a_number_result_is_still_its_number(
     editor: Editor, tmp_path: Path
 ) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds").coordinate
-    saved = _as_saved(editor.save(), tmp_path / "n.xlsx", schema.HOSPITALS, cell,
+    cell = editor.item(HOSPITALS, "Staffed ward beds").coordinate
+    saved = _as_saved(editor.save(), tmp_path / "n.xlsx", HOSPITALS, cell,
                       '<c r="{r}" s="{s}" t="n"><f aca="false">TRUE()+399</f><v>400</v></c>')
     assert read_plan(saved).capacity.ward_beds == 400
 
@@ -139,8 +139,8 @@ def test_a_formula_with_a_number_result_is_still_its_number(
 @pytest.mark.slow
 @pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice is not installed")
 def test_a_workbook_saved_by_libreoffice_itself(editor: Editor, tmp_path: Path) -> None:
-    beds = editor.item(schema.HOSPITALS, "Staffed ward beds")
-    band = editor.table(schema.POPULATION, "Band", "0-17")
+    beds = editor.item(HOSPITALS, "Staffed ward beds")
+    band = editor.table(POPULATION, "Band", "0-17")
     beds.value = True
     band.value = False
     typed = editor.save()
@@ -150,8 +150,8 @@ def test_a_workbook_saved_by_libreoffice_itself(editor: Editor, tmp_path: Path) 
                    check=True, capture_output=True, timeout=300)
     saved = out / typed.name
     with zipfile.ZipFile(saved) as archive:  # LibreOffice's own way: a formula and a number
-        hospitals = archive.read(_sheet_part(archive, schema.HOSPITALS)).decode()
+        hospitals = archive.read(_sheet_part(archive, HOSPITALS)).decode()
     assert re.search(rf'<c r="{beds.coordinate}"[^>]*><f[^>]*>TRUE\(\)</f><v>1</v>', hospitals)
     found = sorted((p.sheet, p.cell, p.found) for p in _problems(saved))
-    assert found == sorted([(schema.HOSPITALS, beds.coordinate, "TRUE"),
-                            (schema.POPULATION, band.coordinate, "FALSE")])
+    assert found == sorted([(HOSPITALS, beds.coordinate, "TRUE"),
+                            (POPULATION, band.coordinate, "FALSE")])

@@ -17,8 +17,18 @@ import openpyxl
 import pytest
 from openpyxl.workbook.workbook import Workbook
 
-from prepkit.workbook import schema
-from prepkit.workbook.schema import FIELDS, MATRIX_FIELDS, TABLES, TYPICAL_VALUE
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.instructions import (
+    INSTRUCTIONS_CAUTION,
+    INSTRUCTIONS_HOW,
+    INSTRUCTIONS_PURPOSE,
+    INSTRUCTIONS_TITLE,
+    MATRIX_NOTE,
+    MATRIX_TITLE,
+    NOTE_HELP,
+)
+from prepkit.workbook.schema import FIELDS, MATRIX_FIELDS, TABLES
+from prepkit.workbook.sheets import SHEET_PURPOSE, TYPICAL_VALUE
 from prepkit.workbook.template import build_workbook
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"
@@ -62,13 +72,13 @@ def _schema_texts() -> Iterator[tuple[str, str]]:
         yield f.name, f.help
     for t in TABLES.values():
         yield f"table {t.name}", t.help
-    for sheet, text in schema.SHEET_PURPOSE.items():
+    for sheet, text in SHEET_PURPOSE.items():
         yield f"purpose of {sheet}", text
-    yield "note help", schema.NOTE_HELP
-    yield "matrix title", schema.MATRIX_TITLE
-    yield "matrix note", schema.MATRIX_NOTE
-    yield "instructions", " ".join((schema.INSTRUCTIONS_TITLE, schema.INSTRUCTIONS_PURPOSE,
-                                    *schema.INSTRUCTIONS_HOW, schema.INSTRUCTIONS_CAUTION))
+    yield "note help", NOTE_HELP
+    yield "matrix title", MATRIX_TITLE
+    yield "matrix note", MATRIX_NOTE
+    yield "instructions", " ".join((INSTRUCTIONS_TITLE, INSTRUCTIONS_PURPOSE,
+                                    *INSTRUCTIONS_HOW, INSTRUCTIONS_CAUTION))
 
 
 def _workbook_texts(wb: Workbook) -> Iterator[tuple[str, str]]:
@@ -119,7 +129,7 @@ def test_neutral_defaults_are_fields_with_defaults() -> None:
 @pytest.mark.parametrize(
     "f", [f for f in FIELDS if f.default is not None and f.name not in NEUTRAL_DEFAULTS],
     ids=lambda f: f.name)
-def test_every_default_names_its_source_or_says_it_is_typical(f: schema.Field) -> None:
+def test_every_default_names_its_source_or_says_it_is_typical(f: Field) -> None:
     assert TYPICAL_VALUE in f.help or CITATION.search(f.help), f.help
 
 

@@ -273,7 +273,8 @@ def check_single(plan: Plan) -> None:
 
 
 def check_ensemble(plan: Plan, draws_count: int, seed: int) -> None:
-    from prepkit.uncertainty.run import draw_values, sample_quantiles
+    from prepkit.uncertainty.fields import sample_quantiles
+    from prepkit.uncertainty.run import draw_values
 
     model = compile_or_none(plan)
     if model is None:

@@ -39,7 +39,8 @@ from prepkit.simulation.layout import (
 from prepkit.simulation.simulate import simulate, simulate_reference
 from prepkit.simulation.transmissibility import growth_rate
 from prepkit.uncertainty.ensemble import simulate_draws
-from prepkit.uncertainty.run import draw_values, run_ensemble, sample_quantiles
+from prepkit.uncertainty.fields import sample_quantiles
+from prepkit.uncertainty.run import draw_values, run_ensemble
 from prepkit.workbook import read_plan
 from prepkit.workbook.schema import FIELDS_BY_NAME
 

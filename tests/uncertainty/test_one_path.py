@@ -22,8 +22,8 @@ from prepkit.scenarios.runs import compile_scenario, run_scenario
 from prepkit.uncertainty.draw_metrics import absence_share, draw_scalars, run_values
 from prepkit.uncertainty.draws import mode_values, values_from
 from prepkit.uncertainty.ensemble import simulate_draws
+from prepkit.uncertainty.fields import scenario_fields
 from prepkit.uncertainty.results import SUMMARY_METRICS
-from prepkit.uncertainty.run import scenario_fields
 
 SCENARIO = "all measures"
 RTOL = 1e-12

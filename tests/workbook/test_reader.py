@@ -15,10 +15,24 @@ import pytest
 from conftest import Editor
 
 from prepkit.errors import WorkbookError
-from prepkit.plan import Contacts, Plan, Source
+from prepkit.plan import Contacts, Plan
+from prepkit.plan.records import Source
 from prepkit.workbook import read_plan, read_plan_with_warnings, schema, write_workbook
 from prepkit.workbook.describe import describe_plan, describe_problems
 from prepkit.workbook.schema import FIELDS_BY_NAME, header_text
+from prepkit.workbook.sheets import (
+    DISEASE,
+    DISEASE_BY_AGE,
+    HOSPITALS,
+    MEASURES,
+    OBSERVED,
+    PLAN,
+    POPULATION,
+    SCENARIOS,
+    SEVERITY,
+    SHEET_ORDER,
+    WORKFORCE,
+)
 
 
 def _without_source(plan: Plan) -> Plan:
@@ -57,7 +71,7 @@ def test_source_names_the_file_its_hash_and_every_input(plan_path: Path) -> None
     assert read.source.sha256 == hashlib.sha256(plan_path.read_bytes()).hexdigest()
     records = {(r.name, r.label): r for r in read.source.inputs}
     icu = records[("band_severity.icu_share", "ICU share of admissions, band 65+")]
-    assert icu.sheet == schema.SEVERITY and re.fullmatch(r"[A-Z]+\d+", icu.cell)
+    assert icu.sheet == SEVERITY and re.fullmatch(r"[A-Z]+\d+", icu.cell)
     assert icu.value == "25% (low 20%, high 30%)" and icu.unit == "%"
     assert ("details.jurisdiction", "Jurisdiction") in records
     assert ("measure.priority", "Band order, measure Vaccine") in records
@@ -70,7 +84,7 @@ def test_source_names_the_file_its_hash_and_every_input(plan_path: Path) -> None
 
 
 def test_blank_cell_with_default_uses_it_and_records_defaulted(editor: Editor) -> None:
-    editor.item(schema.HOSPITALS, "Surge trigger").value = None
+    editor.item(HOSPITALS, "Surge trigger").value = None
     read, _ = editor.read()
     assert read.capacity.surge_trigger_occupancy == FIELDS_BY_NAME[
         "capacity.surge_trigger_occupancy"].default
@@ -79,15 +93,15 @@ def test_blank_cell_with_default_uses_it_and_records_defaulted(editor: Editor) -
 
 
 def test_blank_low_and_high_equal_central(editor: Editor) -> None:
-    editor.item(schema.DISEASE, "R0", "low").value = None
-    editor.item(schema.DISEASE, "R0", "high").value = None
+    editor.item(DISEASE, "R0", "low").value = None
+    editor.item(DISEASE, "R0", "high").value = None
     read, _ = editor.read()
     assert read.disease.r0 is not None and read.disease.r0.is_point
     assert read.disease.r0.central == 2.2
 
 
 def test_observed_sheet_may_be_deleted(editor: Editor) -> None:
-    del editor.wb[schema.OBSERVED]
+    del editor.wb[OBSERVED]
     read, _ = editor.read()
     assert read.observed == ()
 
@@ -98,15 +112,15 @@ def test_observed_sheet_may_be_deleted(editor: Editor) -> None:
 # moves both. The reader reads by header, so the stale range does not matter here.
 @pytest.mark.filterwarnings("ignore:File may not be readable")
 def test_inserted_rows_are_tolerated(editor: Editor, plan: Plan) -> None:
-    editor.wb[schema.PLAN].insert_rows(3, amount=2)
-    editor.wb[schema.POPULATION].insert_rows(6)
-    editor.wb[schema.SEVERITY].insert_rows(6)
+    editor.wb[PLAN].insert_rows(3, amount=2)
+    editor.wb[POPULATION].insert_rows(6)
+    editor.wb[SEVERITY].insert_rows(6)
     read, _ = editor.read()
     assert _without_source(read) == plan
 
 
 def test_item_rows_may_be_moved(editor: Editor, plan: Plan) -> None:
-    ws = editor.wb[schema.HOSPITALS]
+    ws = editor.wb[HOSPITALS]
     first, second = 5, 9
     for col in range(1, 7):
         a, b = ws.cell(first, col), ws.cell(second, col)
@@ -117,7 +131,7 @@ def test_item_rows_may_be_moved(editor: Editor, plan: Plan) -> None:
 
 
 def test_band_rows_may_be_in_any_order(editor: Editor, plan: Plan) -> None:
-    for sheet in (schema.POPULATION, schema.SEVERITY, schema.DISEASE_BY_AGE):
+    for sheet in (POPULATION, SEVERITY, DISEASE_BY_AGE):
         ws = editor.wb[sheet]
         label = header_text(FIELDS_BY_NAME["band.label"])
         head = max(c.row for row in ws.iter_rows() for c in row if c.value == label)
@@ -131,7 +145,7 @@ def test_band_rows_may_be_in_any_order(editor: Editor, plan: Plan) -> None:
 
 
 def test_table_columns_may_be_reordered(editor: Editor, plan: Plan) -> None:
-    ws = editor.wb[schema.MEASURES]
+    ws = editor.wb[MEASURES]
     head = 4
     for a_col, b_col in ((1, 5), (2, 20), (3, 4)):
         for row in range(head, head + 6):
@@ -148,8 +162,8 @@ def test_extra_sheets_and_columns_are_ignored(editor: Editor, plan: Plan) -> Non
     extra["B1"] = "Value"
     extra["A2"] = "Jurisdiction"
     extra["B2"] = "Somewhere else"
-    editor.wb[schema.SCENARIOS].cell(4, 30, "My own column")
-    editor.wb[schema.SCENARIOS].cell(5, 30, 12345)
+    editor.wb[SCENARIOS].cell(4, 30, "My own column")
+    editor.wb[SCENARIOS].cell(5, 30, 12345)
     read, _ = editor.read()
     assert _without_source(read) == plan
 
@@ -158,7 +172,7 @@ def test_extra_sheets_and_columns_are_ignored(editor: Editor, plan: Plan) -> Non
 
 @pytest.mark.parametrize("value", ["25%", " 25 % ", 0.25, "0.25"])
 def test_shares_accept_percent_text_or_fractions(editor: Editor, value: object) -> None:
-    cell = editor.item(schema.WORKFORCE, "Working-age people in work")
+    cell = editor.item(WORKFORCE, "Working-age people in work")
     cell.value = value
     cell.number_format = "General"
     read, _ = editor.read()
@@ -166,7 +180,7 @@ def test_shares_accept_percent_text_or_fractions(editor: Editor, value: object) 
 
 
 def test_percent_formatted_number_is_a_share(editor: Editor) -> None:
-    cell = editor.item(schema.WORKFORCE, "Working-age people in work")
+    cell = editor.item(WORKFORCE, "Working-age people in work")
     cell.value = 0.3
     cell.number_format = "0%"
     read, _ = editor.read()
@@ -174,18 +188,18 @@ def test_percent_formatted_number_is_a_share(editor: Editor) -> None:
 
 
 def test_bare_number_above_one_is_not_a_share(editor: Editor) -> None:
-    cell = editor.item(schema.WORKFORCE, "Working-age people in work")
+    cell = editor.item(WORKFORCE, "Working-age people in work")
     cell.value = 25
     cell.number_format = "General"
     problem = editor.only_problem()
-    assert (problem.sheet, problem.cell) == (schema.WORKFORCE, cell.coordinate)
+    assert (problem.sheet, problem.cell) == (WORKFORCE, cell.coordinate)
     assert str(problem).endswith(
         "expected a share between 0 and 1 (e.g. 25% or 0.25), found 25 (did you mean 25%? Type "
         "25% or 0.25)")
 
 
 def test_dates_accept_iso_text(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Day 0 date")
+    cell = editor.item(PLAN, "Day 0 date")
     cell.value = "2027-01-04"
     cell.number_format = "@"
     read, _ = editor.read()
@@ -193,7 +207,7 @@ def test_dates_accept_iso_text(editor: Editor) -> None:
 
 
 def test_dates_refuse_other_text(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Day 0 date")
+    cell = editor.item(PLAN, "Day 0 date")
     cell.value = "04/01/2027"
     problem = editor.only_problem()
     assert problem.cell == cell.coordinate
@@ -204,44 +218,44 @@ def test_dates_refuse_other_text(editor: Editor) -> None:
                                                (" 12000.5 ", 12000.5)])
 def test_numbers_accept_plain_and_comma_thousands_text(
         editor: Editor, text: str, people: float) -> None:
-    editor.table(schema.POPULATION, "People [persons]", "65+").value = text
+    editor.table(POPULATION, "People [persons]", "65+").value = text
     read, _ = editor.read()
     assert read.bands[-1].people == people
 
 
 @pytest.mark.parametrize("text", ["nan", "inf", "-Infinity", "1e999", "1,2", "twelve"])
 def test_numbers_refuse_nan_infinity_and_words(editor: Editor, text: str) -> None:
-    cell = editor.table(schema.POPULATION, "People [persons]", "65+")
+    cell = editor.table(POPULATION, "People [persons]", "65+")
     cell.value = text
     problem = editor.only_problem()
-    assert (problem.sheet, problem.cell) == (schema.POPULATION, cell.coordinate)
+    assert (problem.sheet, problem.cell) == (POPULATION, cell.coordinate)
 
 
 def test_choices_ignore_case_and_spacing(editor: Editor) -> None:
-    editor.table(schema.SCENARIOS, "Severity", "No measures").value = "  high "
+    editor.table(SCENARIOS, "Severity", "No measures").value = "  high "
     read, _ = editor.read()
     assert read.scenario("No measures").severity_level == "high"
 
 
 def test_scenario_measures_may_be_split_on_commas(editor: Editor) -> None:
-    editor.table(schema.SCENARIOS, "Measures applied", "All measures").value = (
+    editor.table(SCENARIOS, "Measures applied", "All measures").value = (
         "Vaccine, isolation")
     read, _ = editor.read()
     assert read.scenario("All measures").interventions == ("Vaccine", "Isolation")
 
 
 def test_formula_without_saved_result_is_reported_by_cell(editor: Editor) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds")
+    cell = editor.item(HOSPITALS, "Staffed ward beds")
     cell.value = "=B4*2"
     problem = editor.only_problem()
-    assert (problem.sheet, problem.cell) == (schema.HOSPITALS, cell.coordinate)
+    assert (problem.sheet, problem.cell) == (HOSPITALS, cell.coordinate)
     assert problem.expected == "a value"
     assert problem.found.startswith("a formula with no saved result (=B4*2)")
     assert "open and save the file in a spreadsheet program, or type the value" in problem.found
 
 
 def test_formula_with_saved_result_uses_the_result(editor: Editor, tmp_path: Path) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds")
+    cell = editor.item(HOSPITALS, "Staffed ward beds")
     cell.value = "=200*2"
     path = editor.save()
     patched = tmp_path / "patched.xlsx"
@@ -254,7 +268,7 @@ def test_formula_with_saved_result_uses_the_result(editor: Editor, tmp_path: Pat
 
 
 def test_text_label_turned_into_a_date_gets_a_hint(editor: Editor) -> None:
-    cell = editor.table(schema.SEVERITY, "Band", "0-17")
+    cell = editor.table(SEVERITY, "Band", "0-17")
     cell.value = dt.datetime(2027, 9, 5)
     problems = editor.problems()
     first = next(p for p in problems if p.cell == cell.coordinate)
@@ -262,7 +276,7 @@ def test_text_label_turned_into_a_date_gets_a_hint(editor: Editor) -> None:
 
 
 def test_long_text_is_refused_with_its_length(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Jurisdiction")
+    cell = editor.item(PLAN, "Jurisdiction")
     cell.value = "x" * 5000
     problem = editor.only_problem()
     assert problem.found == "text of 5000 characters"
@@ -271,68 +285,68 @@ def test_long_text_is_refused_with_its_length(editor: Editor) -> None:
 # ---- Whole-sheet and block problems -------------------------------------------------------
 
 def test_missing_required_sheet_is_one_problem(editor: Editor) -> None:
-    del editor.wb[schema.HOSPITALS]
+    del editor.wb[HOSPITALS]
     problems = editor.problems()
-    assert [(p.sheet, p.cell) for p in problems] == [(schema.HOSPITALS, "")]
+    assert [(p.sheet, p.cell) for p in problems] == [(HOSPITALS, "")]
 
 
 def test_missing_item_row_with_default_warns_and_uses_default(editor: Editor) -> None:
-    ws = editor.wb[schema.WORKFORCE]
-    row = editor.item(schema.WORKFORCE, "Days off per illness").row
+    ws = editor.wb[WORKFORCE]
+    row = editor.item(WORKFORCE, "Days off per illness").row
     ws.delete_rows(row)
     read, warnings = editor.read()
     assert read.workforce.days_absent_per_illness == 5.0
-    assert [(w.sheet, w.field) for w in warnings] == [(schema.WORKFORCE, "Days off per illness")]
+    assert [(w.sheet, w.field) for w in warnings] == [(WORKFORCE, "Days off per illness")]
 
 
 def test_missing_required_item_row_is_an_error(editor: Editor) -> None:
-    row = editor.item(schema.PLAN, "Jurisdiction").row
-    editor.wb[schema.PLAN].delete_rows(row)
+    row = editor.item(PLAN, "Jurisdiction").row
+    editor.wb[PLAN].delete_rows(row)
     problem = editor.only_problem()
-    assert (problem.sheet, problem.field) == (schema.PLAN, "Jurisdiction")
+    assert (problem.sheet, problem.field) == (PLAN, "Jurisdiction")
     assert "no row labelled 'Jurisdiction'" in problem.found
 
 
 def test_unknown_item_label_with_a_value_warns(editor: Editor) -> None:
-    ws = editor.wb[schema.PLAN]
+    ws = editor.wb[PLAN]
     ws.cell(30, 1, "Budget holder")
     ws.cell(30, 2, "Someone")
     _, warnings = editor.read()
-    assert [(w.sheet, w.cell) for w in warnings] == [(schema.PLAN, "A30")]
+    assert [(w.sheet, w.cell) for w in warnings] == [(PLAN, "A30")]
 
 
 def test_missing_table_header_is_reported(editor: Editor) -> None:
-    ws = editor.wb[schema.SCENARIOS]
+    ws = editor.wb[SCENARIOS]
     ws.cell(4, 1).value = "Name"
     problems = editor.problems()
-    assert (problems[0].sheet, problems[0].field) == (schema.SCENARIOS, "Scenario")
+    assert (problems[0].sheet, problems[0].field) == (SCENARIOS, "Scenario")
 
 
 def test_blank_template_lists_every_required_blank_with_its_cell(template_path: Path) -> None:
     error = _file_error(template_path)
     where = {(p.sheet, p.cell) for p in error.problems}
-    for sheet, label in ((schema.PLAN, "Jurisdiction"), (schema.PLAN, "Prepared by"),
-                         (schema.PLAN, "Day 0 date"), (schema.HOSPITALS, "Staffed ward beds"),
-                         (schema.HOSPITALS, "Staffed ICU beds"),
-                         (schema.DISEASE, "Latent period"), (schema.DISEASE, "Infectious period")):
+    for sheet, label in ((PLAN, "Jurisdiction"), (PLAN, "Prepared by"),
+                         (PLAN, "Day 0 date"), (HOSPITALS, "Staffed ward beds"),
+                         (HOSPITALS, "Staffed ICU beds"),
+                         (DISEASE, "Latent period"), (DISEASE, "Infectious period")):
         wb = openpyxl.load_workbook(template_path)
         ws = wb[sheet]
         row = next(c.row for c in ws["A"] if c.value == label)
         col = 3 if schema.sheet_has_uncertain_items(sheet) else 2
         assert (sheet, ws.cell(row, col).coordinate) in where, label
-    assert (schema.POPULATION, "A5") in where
-    assert (schema.SCENARIOS, "A5") in where
+    assert (POPULATION, "A5") in where
+    assert (SCENARIOS, "A5") in where
     assert all(p.sheet and p.cell for p in error.problems)
 
 
 def test_problems_are_in_sheet_then_row_order(editor: Editor) -> None:
-    editor.item(schema.HOSPITALS, "Staffed ICU beds").value = -1
-    editor.item(schema.PLAN, "Days to look ahead").value = 0
-    editor.item(schema.HOSPITALS, "Staffed ward beds").value = "many"
+    editor.item(HOSPITALS, "Staffed ICU beds").value = -1
+    editor.item(PLAN, "Days to look ahead").value = 0
+    editor.item(HOSPITALS, "Staffed ward beds").value = "many"
     problems = editor.problems()
-    order = [schema.SHEET_ORDER.index(p.sheet) for p in problems]
+    order = [SHEET_ORDER.index(p.sheet) for p in problems]
     assert order == sorted(order)
-    rows = [int(p.cell[1:]) for p in problems if p.sheet == schema.HOSPITALS]
+    rows = [int(p.cell[1:]) for p in problems if p.sheet == HOSPITALS]
     assert rows == sorted(rows)
 
 
@@ -479,10 +493,10 @@ def test_describe_problems_lists_each_problem_under_a_count(template_path: Path)
 
 @pytest.mark.filterwarnings("ignore:File may not be readable")
 def test_observed_sheet_without_its_header_is_ignored_with_a_warning(editor: Editor) -> None:
-    editor.wb[schema.OBSERVED].delete_rows(4)
+    editor.wb[OBSERVED].delete_rows(4)
     read, warnings = editor.read()
     assert read.observed == ()
-    assert [(w.sheet, w.field) for w in warnings] == [(schema.OBSERVED, "Date")]
+    assert [(w.sheet, w.field) for w in warnings] == [(OBSERVED, "Date")]
 
 
 def test_opendocument_file_is_a_workbook_error(tmp_path: Path) -> None:

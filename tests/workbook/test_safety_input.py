@@ -22,7 +22,7 @@ from conftest import small_plan
 
 from prepkit.cli.main import main
 from prepkit.plan import Plan
-from prepkit.workbook import schema
+from prepkit.workbook.sheets import HOSPITALS, POPULATION
 from prepkit.workbook.template import build_workbook, write_workbook
 
 ENTRY = "from prepkit.cli.main import entry; entry()"
@@ -133,7 +133,7 @@ def _with_chart_sheet(tmp_path: Path, title: str, *, replacing: str | None = Non
         del wb[replacing]
     sheet = wb.create_chartsheet(title)
     chart = BarChart()
-    chart.add_data(Reference(wb[schema.POPULATION], min_col=4, min_row=4, max_row=7))
+    chart.add_data(Reference(wb[POPULATION], min_col=4, min_row=4, max_row=7))
     sheet.add_chart(chart)
     buffer = io.BytesIO()
     wb.save(buffer)
@@ -158,7 +158,7 @@ def test_a_chart_sheet_of_one_s_own_is_left_alone(
 def test_a_chart_sheet_in_place_of_a_prepkit_sheet_is_named_as_such(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    path = _with_chart_sheet(tmp_path, schema.HOSPITALS, replacing=schema.HOSPITALS)
+    path = _with_chart_sheet(tmp_path, HOSPITALS, replacing=HOSPITALS)
     assert main(["check", str(path)]) == 2
     out = capsys.readouterr().out
     assert ("Hospitals (sheet): expected a sheet of cells named 'Hospitals', found a chart sheet "

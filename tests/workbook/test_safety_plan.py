@@ -13,7 +13,7 @@ from conftest import Editor, small_plan
 
 from prepkit.cli.main import main
 from prepkit.plan import Plan, Range3
-from prepkit.workbook import schema
+from prepkit.workbook.sheets import DISEASE_BY_AGE
 from prepkit.workbook.template import write_workbook
 
 
@@ -78,7 +78,7 @@ def test_a_one_way_chain_of_infection_cannot_spread_either(
 def test_immune_and_seeded_people_beyond_a_band_are_named_at_its_cell(
     editor: Editor, tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    cell = editor.table(schema.DISEASE_BY_AGE, "Already immune [%]", "65+")
+    cell = editor.table(DISEASE_BY_AGE, "Already immune [%]", "65+")
     cell.value = 1.0
     out = _check_problems(editor, tmp_path, capsys)
     assert (f"'Disease by age'!{cell.coordinate} (Already immune, band 65+, with Initial "

@@ -7,20 +7,31 @@ import dataclasses
 import pytest
 
 import prepkit.plan as plan_module
+from prepkit.plan.details import Details
+from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook import schema
+from prepkit.workbook.field_types import Field
+from prepkit.workbook.instructions import INSTRUCTIONS_CAUTION, INSTRUCTIONS_HOW
 from prepkit.workbook.schema import (
     FIELDS,
     FIELDS_BY_NAME,
     MATRIX_FIELDS,
-    MATRIX_SHEETS,
-    REQUIRED_SHEETS,
-    SHEET_ORDER,
-    SHEET_PURPOSE,
     TABLES,
-    Field,
     format_value,
     header_text,
     normalise_header,
+)
+from prepkit.workbook.sheets import (
+    END_CHOICES,
+    INSTRUCTIONS_SHEET,
+    KIND_CHOICES,
+    LEVEL_CHOICES,
+    MATRIX_SHEETS,
+    MEASURES,
+    REQUIRED_SHEETS,
+    SHEET_ORDER,
+    SHEET_PURPOSE,
+    START_CHOICES,
 )
 
 
@@ -28,11 +39,11 @@ def test_every_sheet_has_a_purpose_and_a_place_in_the_order() -> None:
     assert set(SHEET_PURPOSE) == set(SHEET_ORDER)
     assert len(set(SHEET_ORDER)) == len(SHEET_ORDER)
     assert set(REQUIRED_SHEETS) <= set(SHEET_ORDER)
-    assert schema.INSTRUCTIONS_SHEET not in SHEET_ORDER
+    assert INSTRUCTIONS_SHEET not in SHEET_ORDER
 
 
 def test_sheet_names_fit_excel_limits() -> None:
-    for name in (*SHEET_ORDER, schema.INSTRUCTIONS_SHEET):
+    for name in (*SHEET_ORDER, INSTRUCTIONS_SHEET):
         assert 0 < len(name) <= 31
         assert not set(name) & set("[]:*?/\\")
 
@@ -85,11 +96,11 @@ def test_choice_entries_fit_an_excel_dropdown() -> None:
 
 
 def test_choice_values_are_the_plan_literals() -> None:
-    assert set(schema.LEVEL_CHOICES.values()) == set(plan_module.LEVELS)
-    assert set(schema.KIND_CHOICES.values()) == {"contacts", "vaccination", "isolation"}
-    assert set(schema.START_CHOICES.values()) == {
+    assert set(LEVEL_CHOICES.values()) == set(plan_module.LEVELS)
+    assert set(KIND_CHOICES.values()) == {"contacts", "vaccination", "isolation"}
+    assert set(START_CHOICES.values()) == {
         "date", "ward_occupancy", "icu_occupancy", "admissions"}
-    assert set(schema.END_CHOICES.values()) == {"horizon", "date", "duration", "release"}
+    assert set(END_CHOICES.values()) == {"horizon", "date", "duration", "release"}
 
 
 def test_choice_shown_inverts_the_choice_map() -> None:
@@ -102,9 +113,9 @@ def test_choice_shown_inverts_the_choice_map() -> None:
 
 def test_item_fields_map_onto_plan_attributes() -> None:
     groups = {
-        "details": plan_module.Details, "mixing": plan_module.Contacts,
+        "details": Details, "mixing": plan_module.Contacts,
         "disease": plan_module.Disease, "severity": plan_module.Severity,
-        "capacity": plan_module.Capacity, "workforce": plan_module.Workforce,
+        "capacity": Capacity, "workforce": Workforce,
     }
     for f in FIELDS:
         if f.table is None:
@@ -160,12 +171,12 @@ def test_key_noun_names_the_row_of_each_table() -> None:
 
 
 def test_instructions_mention_shares_dates_blanks_and_the_caution() -> None:
-    text = " ".join(schema.INSTRUCTIONS_HOW)
+    text = " ".join(INSTRUCTIONS_HOW)
     assert "25%" in text and "0.25" in text
     assert "2027-01-15" in text
     assert "Low or High" in text
-    assert "not a forecast" in schema.INSTRUCTIONS_CAUTION
-    assert "local health authority" in schema.INSTRUCTIONS_CAUTION
+    assert "not a forecast" in INSTRUCTIONS_CAUTION
+    assert "local health authority" in INSTRUCTIONS_CAUTION
 
 
 def test_measure_dates_say_which_days_are_in_force() -> None:
@@ -173,6 +184,6 @@ def test_measure_dates_say_which_days_are_in_force() -> None:
     # its end date (checked against runs in tests/samples/test_samples_story.py).
     assert "first day in force" in FIELDS_BY_NAME["measure.start_date"].help
     assert "the last day in force" in FIELDS_BY_NAME["measure.end_date"].help
-    purpose = SHEET_PURPOSE[schema.MEASURES]
+    purpose = SHEET_PURPOSE[MEASURES]
     assert "start date is the first day in force" in purpose
     assert "end date the last day in force" in purpose

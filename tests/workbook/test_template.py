@@ -16,16 +16,38 @@ from openpyxl.worksheet.worksheet import Worksheet
 from prepkit.errors import OutputError
 from prepkit.plan import Plan
 from prepkit.workbook import schema
-from prepkit.workbook.reader import read_plan
-from prepkit.workbook.schema import (
-    FIELDS_BY_NAME,
-    MATRIX_SHEETS,
-    SHEET_ORDER,
-    TABLES,
-    header_text,
-    table_columns,
+from prepkit.workbook.instructions import (
+    INSTRUCTIONS_CAUTION,
+    INSTRUCTIONS_PURPOSE,
+    MATRIX_NOTE,
+    MATRIX_TITLE,
 )
-from prepkit.workbook.template import HEADER_ROW, build_workbook, share_format, write_workbook
+from prepkit.workbook.reader import read_plan
+from prepkit.workbook.schema import FIELDS_BY_NAME, TABLES, header_text, table_columns
+from prepkit.workbook.sheets import (
+    BAND_HEADER,
+    CENTRAL_HEADER,
+    GUIDANCE_HEADER,
+    HIGH_HEADER,
+    HOSPITALS,
+    INSTRUCTIONS_SHEET,
+    ITEM_HEADER,
+    KIND_CHOICES,
+    LOW_HEADER,
+    MATRIX_SHEETS,
+    MEASURES,
+    NOTE_HEADER,
+    PLAN,
+    POPULATION,
+    SCENARIOS,
+    SEVERITY,
+    SHEET_ORDER,
+    SHEET_PURPOSE,
+    UNIT_HEADER,
+    VALUE_HEADER,
+)
+from prepkit.workbook.template import build_workbook, write_workbook
+from prepkit.workbook.template_style import HEADER_ROW, share_format
 
 
 def _load(path: Path) -> Workbook:
@@ -78,19 +100,19 @@ def _snapshot(wb: Workbook) -> dict[str, object]:
 def test_template_sheets_follow_the_schema_order_after_the_instructions(
         template_path: Path) -> None:
     wb = _load(template_path)
-    assert wb.sheetnames == [schema.INSTRUCTIONS_SHEET, *SHEET_ORDER]
+    assert wb.sheetnames == [INSTRUCTIONS_SHEET, *SHEET_ORDER]
 
 
 def test_instructions_sheet_explains_the_workbook(template_path: Path) -> None:
-    ws = _load(template_path)[schema.INSTRUCTIONS_SHEET]
+    ws = _load(template_path)[INSTRUCTIONS_SHEET]
     text = "\n".join(str(c.value) for row in ws.iter_rows() for c in row if c.value)
-    assert schema.INSTRUCTIONS_PURPOSE in text
+    assert INSTRUCTIONS_PURPOSE in text
     for sheet in SHEET_ORDER:
         assert sheet in text
-        assert schema.SHEET_PURPOSE[sheet] in text
+        assert SHEET_PURPOSE[sheet] in text
     assert "25%" in text and "0.25" in text and "2027-01-15" in text
     assert "Low or High" in text
-    assert schema.INSTRUCTIONS_CAUTION in text
+    assert INSTRUCTIONS_CAUTION in text
 
 
 def test_item_block_headers_and_units_come_from_the_schema(template_path: Path) -> None:
@@ -100,16 +122,16 @@ def test_item_block_headers_and_units_come_from_the_schema(template_path: Path) 
         if not fields:
             continue
         ws = wb[sheet]
-        row, col = _find(ws, schema.ITEM_HEADER)
+        row, col = _find(ws, ITEM_HEADER)
         heads = [ws.cell(row, c).value for c in range(col, col + 7)]
         if schema.sheet_has_uncertain_items(sheet):
-            assert heads == [schema.ITEM_HEADER, schema.LOW_HEADER, schema.CENTRAL_HEADER,
-                             schema.HIGH_HEADER, schema.UNIT_HEADER, schema.GUIDANCE_HEADER,
-                             schema.NOTE_HEADER]
+            assert heads == [ITEM_HEADER, LOW_HEADER, CENTRAL_HEADER,
+                             HIGH_HEADER, UNIT_HEADER, GUIDANCE_HEADER,
+                             NOTE_HEADER]
             unit_col = col + 4
         else:
-            assert heads[:5] == [schema.ITEM_HEADER, schema.VALUE_HEADER, schema.UNIT_HEADER,
-                                 schema.GUIDANCE_HEADER, schema.NOTE_HEADER]
+            assert heads[:5] == [ITEM_HEADER, VALUE_HEADER, UNIT_HEADER,
+                                 GUIDANCE_HEADER, NOTE_HEADER]
             unit_col = col + 2
         for f in fields:
             r = _item_row(ws, f.label)
@@ -130,7 +152,7 @@ def test_tables_are_excel_tables_with_schema_headers_and_template_rows(
         assert bottom - top == table.template_rows
         heads = [c.value for c in ws[top] if c.value is not None]
         assert heads == [header_text(f, lv) for f, lv in table_columns(name)] + [
-            schema.NOTE_HEADER]
+            NOTE_HEADER]
 
 
 def test_every_input_cell_has_a_data_validation_with_guidance(template_path: Path) -> None:
@@ -157,29 +179,29 @@ def test_validations_match_field_types(template_path: Path) -> None:
     for ws in wb.worksheets:
         for dv in ws.data_validations.dataValidation:
             by_prompt_title[(ws.title, dv.promptTitle)] = dv
-    kind = by_prompt_title[(schema.MEASURES, "Kind")]
+    kind = by_prompt_title[(MEASURES, "Kind")]
     assert kind.type == "list"
-    assert kind.formula1 == '"' + ",".join(schema.KIND_CHOICES) + '"'
-    share = by_prompt_title[(schema.SEVERITY, "ICU share of admissions")]
+    assert kind.formula1 == '"' + ",".join(KIND_CHOICES) + '"'
+    share = by_prompt_title[(SEVERITY, "ICU share of admissions")]
     assert (share.type, share.operator, share.formula1, share.formula2) == (
         "decimal", "between", "0", "1")
     assert "a share between 0 and 1" in share.error
-    beds = by_prompt_title[(schema.HOSPITALS, "Staffed ward beds")]
+    beds = by_prompt_title[(HOSPITALS, "Staffed ward beds")]
     assert (beds.type, beds.formula1, beds.formula2) == ("whole", "0", "1000000")
-    day0 = by_prompt_title[(schema.PLAN, "Day 0 date")]
+    day0 = by_prompt_title[(PLAN, "Day 0 date")]
     assert day0.type == "date"
 
 
 def test_share_inputs_are_percent_formatted_and_dates_date_formatted(
         template_path: Path) -> None:
     wb = _load(template_path)
-    ws = wb[schema.HOSPITALS]
+    ws = wb[HOSPITALS]
     r = _item_row(ws, FIELDS_BY_NAME["capacity.ward_baseline_occupancy"].label)
     assert "%" in ws.cell(r, 2).number_format
-    ws = wb[schema.PLAN]
+    ws = wb[PLAN]
     r = _item_row(ws, FIELDS_BY_NAME["details.day0"].label)
     assert ws.cell(r, 2).number_format == "yyyy-mm-dd"
-    ws = wb[schema.POPULATION]
+    ws = wb[POPULATION]
     assert ws.cell(HEADER_ROW + 1, 1).number_format == "@"  # band labels stay text
 
 
@@ -195,7 +217,7 @@ def test_sheets_are_protected_without_password_but_allow_rows_format_sort_filter
 
 
 def test_labels_are_locked_and_inputs_unlocked_with_a_fill(template_path: Path) -> None:
-    ws = _load(template_path)[schema.PLAN]
+    ws = _load(template_path)[PLAN]
     r = _item_row(ws, "Jurisdiction")
     assert ws.cell(r, 1).protection.locked
     value = ws.cell(r, 2)
@@ -211,7 +233,7 @@ def test_data_sheets_have_frozen_headers_and_schema_widths(template_path: Path) 
     wb = _load(template_path)
     for sheet in SHEET_ORDER:
         assert wb[sheet].freeze_panes is not None, sheet
-    ws = wb[schema.SCENARIOS]
+    ws = wb[SCENARIOS]
     description = FIELDS_BY_NAME["scenario.description"]
     _, col = _find(ws, header_text(description))
     letter = openpyxl.utils.get_column_letter(col)
@@ -223,10 +245,10 @@ def test_matrix_sheets_explain_rows_and_columns_and_leave_labels_blank(
     wb = _load(template_path)
     for sheet in MATRIX_SHEETS.values():
         ws = wb[sheet]
-        assert ws.cell(1, 1).value == schema.MATRIX_TITLE
+        assert ws.cell(1, 1).value == MATRIX_TITLE
         texts = [c.value for row in ws.iter_rows(max_row=4) for c in row if c.value]
-        assert schema.MATRIX_NOTE in texts
-        r, c = _find(ws, schema.BAND_HEADER)
+        assert MATRIX_NOTE in texts
+        r, c = _find(ws, BAND_HEADER)
         assert ws.cell(r, c + 1).value is None
         assert not ws.cell(r, c + 1).protection.locked
 
@@ -250,9 +272,9 @@ def test_filled_workbook_survives_an_openpyxl_load_save_round_trip(
 
 def test_filled_workbook_holds_the_plan_values(plan_path: Path, plan: Plan) -> None:
     wb = _load(plan_path)
-    ws = wb[schema.PLAN]
+    ws = wb[PLAN]
     assert ws.cell(_item_row(ws, "Jurisdiction"), 2).value == plan.details.jurisdiction
-    ws = wb[schema.POPULATION]
+    ws = wb[POPULATION]
     labels = [ws.cell(HEADER_ROW + 1 + i, 1).value for i in range(len(plan.bands))]
     assert labels == [b.label for b in plan.bands]
 
@@ -277,20 +299,20 @@ def test_notes_go_to_the_source_or_note_column(tmp_path: Path, plan: Plan) -> No
         "measure.compliance@Vaccine": "Guess.",
     })
     wb = _load(path)
-    ws = wb[schema.PLAN]
+    ws = wb[PLAN]
     r = _item_row(ws, "Jurisdiction")
-    _, note_col = _find(ws, schema.NOTE_HEADER)
+    _, note_col = _find(ws, NOTE_HEADER)
     assert ws.cell(r, note_col).value == "Made up."
-    ws = wb[schema.POPULATION]
-    _, note_col = _find(ws, schema.NOTE_HEADER)
+    ws = wb[POPULATION]
+    _, note_col = _find(ws, NOTE_HEADER)
     assert ws.cell(HEADER_ROW + 2, note_col).value == "People: Census table 1."
     assert ws.cell(HEADER_ROW + 1, note_col).value is None
-    ws = wb[schema.SEVERITY]
-    r, note_col = _find_last(ws, schema.NOTE_HEADER)
+    ws = wb[SEVERITY]
+    r, note_col = _find_last(ws, NOTE_HEADER)
     notes = [ws.cell(r + 1 + i, note_col).value for i in range(3)]
     assert notes == ["ICU share of admissions: Same for all."] * 3
-    ws = wb[schema.MEASURES]
-    r, note_col = _find(ws, schema.NOTE_HEADER)
+    ws = wb[MEASURES]
+    r, note_col = _find(ws, NOTE_HEADER)
     assert ws.cell(r + 2, note_col).value == "Compliance: Guess."
 
 
@@ -337,13 +359,13 @@ def test_spreadsheet_program_opens_and_resaves_the_workbooks(
             check=True, capture_output=True, timeout=180,
         )
     blank = _load(out / template_path.name)
-    assert blank.sheetnames == [schema.INSTRUCTIONS_SHEET, *SHEET_ORDER]
+    assert blank.sheetnames == [INSTRUCTIONS_SHEET, *SHEET_ORDER]
     assert {t for ws in blank.worksheets for t in ws.tables} == {
         t.excel_name for t in TABLES.values()}
     resaved = read_plan(out / plan_path.name)
     from dataclasses import replace
 
-    from prepkit.plan import Source
+    from prepkit.plan.records import Source
     assert replace(resaved, source=Source()) == plan
 
 

@@ -9,12 +9,24 @@ import pytest
 from conftest import Editor
 
 from prepkit.errors import Problem
-from prepkit.workbook import schema
-from prepkit.workbook.schema import MATRIX_SHEETS
+from prepkit.workbook.sheets import (
+    DISEASE,
+    DISEASE_BY_AGE,
+    HOSPITALS,
+    MATRIX_SHEETS,
+    MEASURES,
+    MIXING,
+    OBSERVED,
+    PLAN,
+    POPULATION,
+    SCENARIOS,
+    SEVERITY,
+    WORKFORCE,
+)
 
-POP, MIX, DIS, BY_AGE, SEV = (schema.POPULATION, schema.MIXING, schema.DISEASE,
-                              schema.DISEASE_BY_AGE, schema.SEVERITY)
-MEAS, SCEN, OBS = schema.MEASURES, schema.SCENARIOS, schema.OBSERVED
+POP, MIX, DIS, BY_AGE, SEV = (POPULATION, MIXING, DISEASE,
+                              DISEASE_BY_AGE, SEVERITY)
+MEAS, SCEN, OBS = MEASURES, SCENARIOS, OBSERVED
 
 
 def _at(problems: tuple[Problem, ...], cell: Any) -> Problem:
@@ -42,7 +54,7 @@ def _warning_at(editor: Editor, cell: Any) -> Problem:
 # ---- Single-field rules -------------------------------------------------------------------
 
 def test_wrong_type_names_the_cell_expected_and_found(editor: Editor) -> None:
-    cell = editor.item(schema.HOSPITALS, "Staffed ward beds")
+    cell = editor.item(HOSPITALS, "Staffed ward beds")
     cell.value = "many"
     problem = _only_at(editor, cell)
     assert str(problem) == (f"Hospitals!{cell.coordinate} (Staffed ward beds): expected a whole "
@@ -50,19 +62,19 @@ def test_wrong_type_names_the_cell_expected_and_found(editor: Editor) -> None:
 
 
 def test_out_of_range_value_is_an_error(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Days to look ahead")
+    cell = editor.item(PLAN, "Days to look ahead")
     cell.value = 0
     assert _only_at(editor, cell).expected == "a whole number between 1 and 730"
 
 
 def test_whole_number_fields_refuse_fractions(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Uncertainty draws")
+    cell = editor.item(PLAN, "Uncertainty draws")
     cell.value = 2.5
     assert _only_at(editor, cell).found == "2.5"
 
 
 def test_required_blank_is_an_error(editor: Editor) -> None:
-    cell = editor.item(schema.PLAN, "Prepared by")
+    cell = editor.item(PLAN, "Prepared by")
     cell.value = None
     assert _only_at(editor, cell).found == "a blank cell"
 
@@ -109,13 +121,13 @@ def test_whole_percent_in_a_low_or_high_column_asks_did_you_mean(editor: Editor,
 
 
 def test_whole_percent_typed_as_text_in_an_item_asks_did_you_mean(editor: Editor) -> None:
-    cell = editor.item(schema.HOSPITALS, "Ward beds used by other patients")
+    cell = editor.item(HOSPITALS, "Ward beds used by other patients")
     cell.value = "85"
     assert _only_at(editor, cell).found == '"85" (did you mean 85%? Type 85% or 0.85)'
 
 
 def test_no_percent_hint_where_a_hundredth_is_still_out_of_range(editor: Editor) -> None:
-    cell = editor.item(schema.DISEASE, "Seasonal swing")  # at most 90%
+    cell = editor.item(DISEASE, "Seasonal swing")  # at most 90%
     cell.value = 95
     cell.number_format = "General"
     assert _only_at(editor, cell).found == "95"
@@ -408,8 +420,8 @@ def test_seasonal_swing_needs_a_peak_date(editor: Editor) -> None:
 
 
 def test_youngest_working_age_not_above_oldest(editor: Editor) -> None:
-    editor.item(schema.WORKFORCE, "Youngest working age").value = 70
-    cell = editor.item(schema.WORKFORCE, "Oldest working age")
+    editor.item(WORKFORCE, "Youngest working age").value = 70
+    cell = editor.item(WORKFORCE, "Oldest working age")
     assert _only_at(editor, cell).expected == "at least the youngest working age (70)"
 
 

@@ -1,0 +1,46 @@
+"""Who a plan is for, when it starts, how far it looks (see :mod:`prepkit.plan`)."""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from typing import Literal
+
+__all__ = ["Details", "PageSize"]
+
+
+PageSize = Literal["A4", "Letter"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class Details:
+    """Plan details: who, where, when, how long, how many draws.
+
+    Attributes
+    ----------
+    jurisdiction : str
+        Name of the municipality or county.
+    title : str
+        Report title.
+    prepared_by : str
+        Person or team preparing the plan.
+    day0 : datetime.date
+        Calendar date of model day 0.
+    horizon_days : int
+        Days simulated after day 0 [days], 1 to 730.
+    draws : int
+        Uncertainty draws per scenario [count]; 0 turns the ensemble off.
+    seed : int
+        Random seed for the uncertainty draws.
+    page_size : {"A4", "Letter"}
+        Paper size of the briefing pack.
+    """
+
+    jurisdiction: str
+    title: str
+    prepared_by: str
+    day0: dt.date
+    horizon_days: int
+    draws: int
+    seed: int
+    page_size: PageSize
