@@ -81,7 +81,6 @@ from prepkit.pipeline.outputs import (  # noqa: E402
 from prepkit.pipeline.outputs_guard import check_pack_folder, check_summary_path  # noqa: E402
 from prepkit.pipeline.summary import summary_dict  # noqa: E402
 from prepkit.plan import Plan  # noqa: E402
-from prepkit.report import context as words  # noqa: E402
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs  # noqa: E402
 from prepkit.report.render import html_to_pdf, render_html, templates_dir  # noqa: E402
 from prepkit.report.results_workbook import (  # noqa: E402
@@ -89,6 +88,10 @@ from prepkit.report.results_workbook import (  # noqa: E402
     uncertainty_sheets,
 )
 from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv  # noqa: E402
+from prepkit.report.words.leader import CAUTION_LINE, bottom_line  # noqa: E402
+from prepkit.report.words.pack import FigureView, PackFigures, build_context  # noqa: E402
+from prepkit.report.words.uncertainty_text import ensemble_context  # noqa: E402
+from prepkit.report.words.views import ScenarioView, scenario_views  # noqa: E402
 from prepkit.scenarios.runs import PlanResults, run_plan  # noqa: E402
 from prepkit.uncertainty.run import (  # noqa: E402
     UncertaintyResults,
@@ -477,15 +480,15 @@ def _summary_bytes(
 
 
 def _figures(
-    views: Sequence[words.ScenarioView], charts: Sequence[Chart], fmt: Literal["svg", "png"]
-) -> words.PackFigures:
+    views: Sequence[ScenarioView], charts: Sequence[Chart], fmt: Literal["svg", "png"]
+) -> PackFigures:
     by_name = {chart.name: chart for chart in charts}
     number = 0
 
-    def view_of(chart: Chart) -> words.FigureView:
+    def view_of(chart: Chart) -> FigureView:
         nonlocal number
         number += 1
-        return words.FigureView(
+        return FigureView(
             name=chart.name, src=chart.data_uri(fmt), alt=chart.alt, caption=chart.caption,
             label=f"Figure {number}.",
         )
@@ -501,7 +504,7 @@ def _figures(
         if not chart.name.startswith(("demand-scenario-", "uncertainty-"))
     )
     uncertainty = tuple(view_of(chart) for chart in charts if chart.name.startswith("uncertainty-"))
-    return words.PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
+    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
 
 
 def render_pack(
@@ -543,9 +546,9 @@ def render_pack(
     """
     tell = say or (lambda _message: None)
     when = generated or source_date()
-    views = words.scenario_views(plan, results)
+    views = scenario_views(plan, results)
     tell("Drawing the charts")
-    ensemble_words = words.ensemble_context(plan, views, ensemble)
+    ensemble_words = ensemble_context(plan, views, ensemble)
     jobs = chart_jobs(plan, views)
     if ensemble_words is not None:
         jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words["focus"])
@@ -558,7 +561,7 @@ def render_pack(
     # The PDF gets the PNG copies: weasyprint lays out a PNG about ten times
     # faster than an SVG chart, and at 200 dpi it prints sharply. The HTML
     # page gets the SVG copies, which stay sharp at any zoom.
-    base = words.build_context(
+    base = build_context(
         plan, results, figures=_figures(views, charts, "png"), version=__version__,
         generated=when, files=listed, uncertainty=ensemble, notes=notes,
     )
@@ -707,15 +710,15 @@ def check_outdir(outdir: Path, workbook: Path, *, force: bool = False) -> None:
 
 def _closing_report(plan: Plan, results: PlanResults, outdir: Path | None, json_path: Path | None
                     ) -> str:
-    views = words.scenario_views(plan, results)
+    views = scenario_views(plan, results)
     lines = []
     if outdir is not None:
         lines.append(f"Briefing pack for {plan.details.jurisdiction} written to {outdir}")
         lines.append(f"  open {outdir / 'briefing-pack.pdf'}")
     if json_path is not None:
         lines.append(f"Summary of every metric written to {json_path}")
-    lines.append("Bottom line: " + " ".join(words.bottom_line(views)))
-    lines.append(f"Caution: {words.CAUTION_LINE}")
+    lines.append("Bottom line: " + " ".join(bottom_line(views)))
+    lines.append(f"Caution: {CAUTION_LINE}")
     return "\n".join(lines)
 
 

@@ -28,7 +28,6 @@ import pandas as pd
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from prepkit.report import context as words
 from prepkit.report.style import (
     OKABE_ITO,
     PageSize,
@@ -36,6 +35,7 @@ from prepkit.report.style import (
     figure_bytes,
     series_style,
 )
+from prepkit.report.words.formatting import format_date
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -239,7 +239,7 @@ def date_axis(ax: Axes, window: tuple[dt.date, dt.date]) -> None:
     major = [m for m in months if (m.month - 1) % step == 0] or months[:1]
     labels = []
     for i, day in enumerate(major):
-        name = words.format_date(day, year=False).split(" ", 1)[1]
+        name = format_date(day, year=False).split(" ", 1)[1]
         labels.append(f"{name}\n{day.year}" if i == 0 or day.month == 1 else name)
     ax.xaxis.set_major_locator(matplotlib.ticker.FixedLocator(mdates.date2num(major)))
     ax.xaxis.set_major_formatter(matplotlib.ticker.FixedFormatter(labels))

@@ -12,7 +12,6 @@ from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 
 from prepkit.plan import Plan
-from prepkit.report import context as words
 from prepkit.report.charts_base import (
     SHORT_FILL,
     STILL_SHORT_FILL,
@@ -27,6 +26,9 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
+from prepkit.report.words.alt_text import demand_alt, gap_alt
+from prepkit.report.words.formatting import format_number, periods_over
+from prepkit.report.words.views import ScenarioView
 
 __all__ = ["demand_chart", "gap_chart"]
 
@@ -35,7 +37,7 @@ __all__ = ["demand_chart", "gap_chart"]
 
 def demand_chart(
     plan: Plan,
-    view: words.ScenarioView,
+    view: ScenarioView,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -132,14 +134,14 @@ def demand_chart(
     caption = (
         f"Beds needed by outbreak patients in the {view.name} scenario. Shaded: days on which "
         f"demand with measures is above the available beds (beds not needed by other "
-        f"patients; {words.format_number(ward.available_beds)} ward and "
-        f"{words.format_number(view.with_metrics.icu.available_beds)} ICU beds)."
+        f"patients; {format_number(ward.available_beds)} ward and "
+        f"{format_number(view.with_metrics.icu.available_beds)} ICU beds)."
     )
     return Chart(
         name=f"demand-scenario-{view.number}",
         title=f"Bed demand: {view.name}",
         caption=caption,
-        alt=words.demand_alt(view, observed_days=len(observed)),
+        alt=demand_alt(view, observed_days=len(observed)),
         svg=svg,
         png=png,
     )
@@ -168,7 +170,7 @@ def _legend_order(labels: Sequence[str]) -> list[int]:
 
 
 def gap_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -210,7 +212,7 @@ def gap_chart(
     def spans(demand: pd.Series, available: pd.Series) -> list[tuple[float, float]]:
         return [
             (float(mdates.date2num(p.start)) - 0.5, float(p.days))
-            for p in words.periods_over(demand, available)
+            for p in periods_over(demand, available)
         ]
 
     def draw(fig: Figure) -> None:
@@ -260,7 +262,7 @@ def gap_chart(
             "Days on which outbreak patients need more beds than are available, with measures, "
             "for each scenario. Numbers at the right count the days (d)."
         ),
-        alt=words.gap_alt(views),
+        alt=gap_alt(views),
         svg=svg,
         png=png,
     )

@@ -12,7 +12,6 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from prepkit.plan import Plan
-from prepkit.report import context as words
 from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
@@ -27,6 +26,9 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
+from prepkit.report.words.alt_text import absence_alt, admissions_alt, outcomes_alt
+from prepkit.report.words.formatting import format_number
+from prepkit.report.words.views import ScenarioView
 
 __all__ = ["absence_chart", "admissions_chart", "outcomes_chart"]
 
@@ -40,7 +42,7 @@ def _panel_grid(count: int) -> tuple[int, int]:
 
 def admissions_chart(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -113,7 +115,7 @@ def admissions_chart(
             "New hospital admissions of residents each day, with and without each scenario's "
             "measures. All panels share the same scales."
         ),
-        alt=words.admissions_alt(views),
+        alt=admissions_alt(views),
         svg=svg,
         png=png,
     )
@@ -122,7 +124,7 @@ def admissions_chart(
 # ---- Total outcomes ------------------------------------------------------------------------------
 
 
-def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> Chart:
+def outcomes_chart(views: Sequence[ScenarioView], page_size: PageSize) -> Chart:
     """Total admissions, ICU admissions and deaths by scenario, with and without measures.
 
     Parameters
@@ -158,10 +160,10 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
             ax.barh(y + 0.2, without_values, height=0.38, color="white",
                     edgecolor=CSS_COLORS["ink"], linewidth=0.8, label="Without measures")
             for yy, value in zip(y - 0.2, with_values, strict=True):
-                ax.text(value + 0.02 * top, yy, words.format_number(value), va="center",
+                ax.text(value + 0.02 * top, yy, format_number(value), va="center",
                         fontsize=7.5)
             for yy, value in zip(y + 0.2, without_values, strict=True):
-                ax.text(value + 0.02 * top, yy, words.format_number(value), va="center",
+                ax.text(value + 0.02 * top, yy, format_number(value), va="center",
                         fontsize=7.5, color=CSS_COLORS["muted"])
             ax.set_xlim(0, top * 1.35)
             ax.set_title(title, loc="left", fontsize=9, fontweight="bold")
@@ -185,7 +187,7 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
             "Hospital admissions, ICU admissions and deaths among hospital patients over the "
             "whole period, by scenario, with and without measures."
         ),
-        alt=words.outcomes_alt(views),
+        alt=outcomes_alt(views),
         svg=svg,
         png=png,
     )
@@ -195,7 +197,7 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
 
 
 def absence_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -239,7 +241,7 @@ def absence_chart(
             "Share of workers off work each day with each scenario's measures: ill workers plus "
             "workers caring for children while schools are closed."
         ),
-        alt=words.absence_alt(views),
+        alt=absence_alt(views),
         svg=svg,
         png=png,
     )

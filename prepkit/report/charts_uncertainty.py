@@ -13,7 +13,6 @@ import numpy as np
 import pandas as pd
 from matplotlib.figure import Figure
 
-from prepkit.report import context as words
 from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
@@ -27,6 +26,10 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size, series_style
+from prepkit.report.words.alt_text import bands_alt, exceedance_alt, peak_dates_alt, tornado_alt
+from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
+from prepkit.report.words.formatting import as_date, format_number
+from prepkit.report.words.views import ScenarioView
 
 __all__ = [
     "BAR_DAYS",
@@ -45,13 +48,13 @@ BAND_FILL = "#A6D2F0"
 
 def ensemble_of(uncertainty: Any, name: str) -> Any | None:
     """The ensemble of a scenario with its measures, or None when it has none."""
-    item = words.scenario_ensemble(uncertainty, name)
+    item = scenario_ensemble(uncertainty, name)
     return None if item is None else item.with_interventions
 
 
 def _with_ensembles(
-    views: Sequence[words.ScenarioView], uncertainty: Any
-) -> list[tuple[words.ScenarioView, Any]]:
+    views: Sequence[ScenarioView], uncertainty: Any
+) -> list[tuple[ScenarioView, Any]]:
     out = []
     for view in views:
         result = ensemble_of(uncertainty, view.name)
@@ -61,11 +64,11 @@ def _with_ensembles(
 
 
 def _q_columns(uncertainty: Any) -> tuple[str, str, str]:
-    return words.band_columns(uncertainty.quantiles)
+    return band_columns(uncertainty.quantiles)
 
 
 def band_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     uncertainty: Any,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
@@ -132,14 +135,14 @@ def band_chart(
             f"band from the {low_pct}th to the {high_pct}th percentile. Scales differ between "
             "scenarios."
         ),
-        alt=words.bands_alt(views, uncertainty),
+        alt=bands_alt(views, uncertainty),
         svg=svg,
         png=png,
     )
 
 
 def exceedance_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     uncertainty: Any,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
@@ -197,7 +200,7 @@ def exceedance_chart(
             "Share of plausible futures in which demand with measures is above the available "
             "beds on each day. Above the dashed line it is more likely than not."
         ),
-        alt=words.exceedance_alt(views, uncertainty),
+        alt=exceedance_alt(views, uncertainty),
         svg=svg,
         png=png,
     )
@@ -230,7 +233,7 @@ def weekly_peak_shares(result: Any) -> pd.Series:
 
 
 def peak_date_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     uncertainty: Any,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
@@ -266,7 +269,7 @@ def peak_date_chart(
                 ax.bar(weekly.index.to_numpy(), 100.0 * weekly.to_numpy(), width=BAR_DAYS,
                        align="edge", color=style.color, edgecolor=CSS_COLORS["ink"],
                        linewidth=0.4)
-                median = words.as_date(result.peak_dates.loc["icu_demand", q_mid])
+                median = as_date(result.peak_dates.loc["icu_demand", q_mid])
                 if median is not None:
                     ax.axvline(mdates.date2num(median), color=CSS_COLORS["ink"], linewidth=1.2,
                                linestyle=(0, (4, 2)))
@@ -285,7 +288,7 @@ def peak_date_chart(
             "Share of plausible futures whose ICU demand (with measures) peaks in each week; the "
             "dashed line marks the median peak date."
         ),
-        alt=words.peak_dates_alt(views, uncertainty),
+        alt=peak_dates_alt(views, uncertainty),
         svg=svg,
         png=png,
     )
@@ -333,10 +336,10 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
                 label="Input at the high end")
         ax.axvline(base, color=CSS_COLORS["ink"], linewidth=1.0)
         for yy, value in zip(y - 0.19, low, strict=True):
-            ax.text(value, yy, f" {words.format_number(value)} ", va="center", fontsize=7.5,
+            ax.text(value, yy, f" {format_number(value)} ", va="center", fontsize=7.5,
                     ha="left" if value >= base else "right")
         for yy, value in zip(y + 0.19, high, strict=True):
-            ax.text(value, yy, f" {words.format_number(value)} ", va="center", fontsize=7.5,
+            ax.text(value, yy, f" {format_number(value)} ", va="center", fontsize=7.5,
                     ha="left" if value >= base else "right")
         ax.set_yticks(y, [wrap_label(str(label), 30) for label in rows["label"]], fontsize=8)
         ax.invert_yaxis()
@@ -358,7 +361,7 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
             "low or the high end of its range and every other input to its most likely value "
             "(vertical line). Inputs given per age band move together."
         ),
-        alt=words.tornado_alt(name, rows, len(rows)),
+        alt=tornado_alt(name, rows, len(rows)),
         svg=svg,
         png=png,
     )

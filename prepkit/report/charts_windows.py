@@ -16,14 +16,15 @@ from typing import Any
 
 import numpy as np
 
-from prepkit.report import context as words
 from prepkit.report.charts_base import BUSY_SHARE, TAIL_DAYS, as_day
 from prepkit.report.charts_uncertainty import BAR_DAYS, ensemble_of, weekly_peak_shares
+from prepkit.report.words.ensemble_format import band_columns
+from prepkit.report.words.views import ScenarioView
 
 __all__ = ["chart_window", "ensemble_window", "exceedance_window", "gap_window"]
 
 
-def chart_window(views: Sequence[words.ScenarioView]) -> tuple[dt.date, dt.date]:
+def chart_window(views: Sequence[ScenarioView]) -> tuple[dt.date, dt.date]:
     """Dates shown on the time axes: day 0 to four weeks after demand ends.
 
     Charts comparing scenarios share the window of all of them; a
@@ -76,7 +77,7 @@ def chart_window(views: Sequence[words.ScenarioView]) -> tuple[dt.date, dt.date]
 
 
 def gap_window(
-    views: Sequence[words.ScenarioView], window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView], window: tuple[dt.date, dt.date]
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the capacity-gap timeline: day 0 to four weeks after the last gap.
 
@@ -99,7 +100,7 @@ def gap_window(
 
 
 def ensemble_window(
-    views: Sequence[words.ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the band and peak-date charts: wide enough for the late futures.
 
@@ -123,7 +124,7 @@ def ensemble_window(
     tuple of datetime.date
         First and last day shown; never shorter than ``window``.
     """
-    _, _, q_high = words.band_columns(uncertainty.quantiles)
+    _, _, q_high = band_columns(uncertainty.quantiles)
     last = window[1]
     for view in views:
         result = ensemble_of(uncertainty, view.name)
@@ -146,7 +147,7 @@ def ensemble_window(
 
 
 def exceedance_window(
-    views: Sequence[words.ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the exceedance chart: day 0 to four weeks after the last chance of a gap.
 

@@ -1,0 +1,265 @@
+"""Words and table rows from the uncertainty ensemble."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import pandas as pd
+
+from prepkit.plan import Plan
+from prepkit.report.words.comparison import TableRow
+from prepkit.report.words.ensemble_format import (
+    band_columns,
+    chance_cell,
+    chance_phrase,
+    likely_period,
+    scenario_ensemble,
+    spread_cells,
+)
+from prepkit.report.words.formatting import as_date, format_date, format_number, lower_first, quoted
+from prepkit.report.words.views import ScenarioView
+
+#: Said where the central run's figures meet the ensemble's (uncertainty page).
+HEADLINE_POLICY = (
+    "Every figure outside this section comes from the central run: one run of each scenario "
+    "at its own transmissibility and severity levels, with every other input at its Central "
+    "value. The table below puts that run beside the median and the range of the {draws} "
+    "runs. The two need not agree: the runs draw each input from around its level (a High "
+    "level from Central to High), and outcomes do not respond evenly to the inputs, so the "
+    "middle of the runs can sit above or below the central run."
+)
+
+
+def _exceedance_sentence(view: ScenarioView, result: Any) -> str:
+    any_day = result.exceedance_any_day
+    icu = float(any_day.loc["icu", "any_day_probability"])
+    ward = float(any_day.loc["ward", "any_day_probability"])
+    text = (
+        f"In {chance_phrase(icu)} plausible futures of {quoted(view.name)}, ICU demand exceeds "
+        f"the available beds at some point"
+    )
+    window = likely_period(result.exceedance["icu_exceedance_probability"])
+    if window is not None:
+        text += (
+            f", most likely from {format_date(window.start)} (more likely than not until "
+            f"{format_date(window.end)})"
+        )
+    elif icu > 0.0:
+        text += ", though on no single day is that more likely than not"
+    return text + f". Ward beds run short in {chance_phrase(ward)} plausible futures."
+
+
+def ensemble_context(
+    plan: Plan, views: Sequence[ScenarioView], uncertainty: Any
+) -> dict[str, Any] | None:
+    """Words and table rows from the uncertainty ensemble.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan.
+    views : sequence of ScenarioView
+        Every scenario.
+    uncertainty : prepkit.uncertainty.run.UncertaintyResults or None
+        The ensemble; None or an empty one gives None.
+
+    Returns
+    -------
+    dict or None
+        ``sentences`` (leader page), ``intro``, ``rows`` (table),
+        ``drivers`` (what matters most), ``method`` (appendix),
+        ``references``, ``draws``, ``range_words``, ``focus`` (scenario
+        of the tornado chart).
+    """
+    if uncertainty is None or not getattr(uncertainty, "scenarios", ()):
+        return None
+    share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
+    range_words = f"{round(10 * share)} of 10"
+    draws = int(uncertainty.draws)
+    short = [v for v in views if v.short_of_beds]
+    focus = max(short, key=lambda v: v.unmet_bed_days) if short else (views[0] if views else None)
+    sentences = _focus_sentences(uncertainty, focus, range_words)
+    chances, rows, spread = _ensemble_rows(views, uncertainty)
+    if len(chances) > 1:
+        sentences.append(
+            "Plausible futures in which ICU beds run short at some point, with measures: "
+            + "; ".join(chances) + "."
+        )
+    drivers = ""
+    if focus is not None:
+        result = scenario_ensemble(uncertainty, focus.name)
+        if result is not None:
+            drivers = drivers_sentence(focus.name, result.with_interventions.tornado_peak_icu)
+    intro, method, references = _method_text(uncertainty)
+    return {
+        "draws": f"{draws:,}",
+        "sentences": tuple(sentences),
+        "intro": intro,
+        "rows": tuple(rows),
+        "spread_rows": tuple(spread),
+        "headline_policy": HEADLINE_POLICY.format(draws=f"{draws:,}"),
+        "drivers": drivers,
+        "method": method,
+        "references": references,
+        "range_words": range_words,
+        "focus": focus.name if focus is not None else "",
+        "low_pct": round(100 * min(uncertainty.quantiles)),
+        "high_pct": round(100 * max(uncertainty.quantiles)),
+    }
+
+
+def _focus_sentences(
+    uncertainty: Any, focus: ScenarioView | None, range_words: str
+) -> list[str]:
+    """The leader page's first sentences on the ensemble, on the scenario shortest of beds."""
+    q_low, _, q_high = band_columns(uncertainty.quantiles)
+    draws = int(uncertainty.draws)
+    sentences = [
+        f"Each scenario was also run {draws:,} times, each time drawing the uncertain inputs "
+        "from the workbook's Low to High ranges."
+    ]
+    if focus is not None:
+        result = scenario_ensemble(uncertainty, focus.name)
+        if result is not None:
+            sentences.append(_exceedance_sentence(focus, result.with_interventions))
+            peak = result.with_interventions.summary.loc["peak_icu_demand_beds"]
+            sentences.append(
+                f"Its ICU peak lies between {format_number(float(peak[q_low]), words=True)} and "
+                f"{format_number(float(peak[q_high]), words=True)} beds in {range_words} "
+                "futures (the central run quoted elsewhere in this pack: "
+                f"{format_number(focus.with_metrics.icu.peak_demand_beds, words=True)})."
+            )
+    return sentences
+
+
+def _ensemble_rows(
+    views: Sequence[ScenarioView], uncertainty: Any
+) -> tuple[list[str], list[TableRow], list[TableRow]]:
+    """Each scenario's chance of ICU beds running short, its chance table row and spread row."""
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
+    chances = []
+    rows = []
+    spread = []
+    for view in views:
+        result = scenario_ensemble(uncertainty, view.name)
+        if result is None:
+            continue
+        e = result.with_interventions
+        any_day = e.exceedance_any_day
+        s = e.summary
+        dates = e.peak_dates
+        chances.append(
+            f"{quoted(view.name)} {chance_cell(float(any_day.loc['icu', 'any_day_probability']))}"
+        )
+        ward_peak_dates = dates.loc["ward_demand"]
+        rows.append(
+            TableRow(
+                label=view.name,
+                cells=(
+                    chance_cell(float(any_day.loc["ward", "any_day_probability"])),
+                    chance_cell(float(any_day.loc["icu", "any_day_probability"])),
+                    (
+                        f"{format_date(as_date(ward_peak_dates[q_low]), year=False)} to "
+                        f"{format_date(as_date(ward_peak_dates[q_high]), year=False)}"
+                        if ward_peak_dates[q_low] is not None
+                        else "–"
+                    ),
+                ),
+            )
+        )
+        m = view.with_metrics
+        spread.append(
+            TableRow(
+                label=view.name,
+                cells=(
+                    *spread_cells(m.ward.peak_demand_beds, s.loc["peak_ward_demand_beds"],
+                                  q_low, q_mid, q_high),
+                    *spread_cells(m.icu.peak_demand_beds, s.loc["peak_icu_demand_beds"],
+                                  q_low, q_mid, q_high),
+                    *spread_cells(view.unmet_bed_days, s.loc["total_unmet_bed_days"],
+                                  q_low, q_mid, q_high),
+                ),
+            )
+        )
+    return chances, rows, spread
+
+
+def _method_text(uncertainty: Any) -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
+    """The uncertainty page's introduction, the methods appendix and its references."""
+    draws = int(uncertainty.draws)
+    intro = (
+        f"Each scenario was run {draws:,} times. Every run draws each uncertain input (how fast "
+        "the disease spreads, the latent and infectious periods, who needs a hospital or ICU "
+        "bed and for how long, how well the measures are followed, how well the vaccine "
+        "protects) from the Low to High range given in the workbook, most often near the "
+        "Central value. The spread of the results shows how much the figures depend on those "
+        "inputs.",
+        "It does not cover everything that could happen: inputs given as a single value stay "
+        "fixed, and every run uses the same model. Read the ranges as the consequences of the "
+        "workbook's ranges, not as odds of what will happen.",
+    )
+    method = (
+        f"Each scenario is run {draws:,} times with and without its measures, using the same "
+        f"draws for every scenario (random seed {uncertainty.seed}). Each uncertain input is "
+        "drawn from a beta-PERT distribution over its range with the Central value as the most "
+        "likely (Malcolm, Roseboom, Clark & Fazar 1959); the draws are spread evenly over "
+        "every input's range by Latin hypercube sampling (McKay, Beckman & Conover 1979). "
+        "Transmissibility and the admission and ICU shares are drawn around the scenario's "
+        "own level; the other inputs over their whole range. Inputs given per age band move "
+        "together: a draw with long ICU stays has long stays in every band.",
+        f"Ranges in this pack run from the {round(100 * min(uncertainty.quantiles))}th to the "
+        f"{round(100 * max(uncertainty.quantiles))}th percentile of the draws, shown beside "
+        "the median and the central run. The chance of running short is the share of draws in "
+        "which demand is above the available beds on at least one day. The sensitivity chart "
+        "moves one input at a time to each end of its range while the others stay at their "
+        "most likely values.",
+    )
+    references = (
+        "Malcolm DG, Roseboom JH, Clark CE, Fazar W (1959). Application of a technique for "
+        "research and development program evaluation. Operations Research 7:646–669.",
+        "McKay MD, Beckman RJ, Conover WJ (1979). A comparison of three methods for selecting "
+        "values of input variables in the analysis of output from a computer code. "
+        "Technometrics 21:239–245.",
+    )
+    return intro, method, references
+
+
+def drivers_sentence(name: str, tornado: pd.DataFrame, top: int = 3) -> str:
+    """Which inputs move the ICU peak most, from a one-at-a-time sensitivity table.
+
+    Parameters
+    ----------
+    name : str
+        Scenario name.
+    tornado : pandas.DataFrame
+        ``tornado_peak_icu`` of the ensemble (largest swing first).
+    top : int, optional
+        How many inputs to name.
+
+    Returns
+    -------
+    str
+        E.g. "In “Central figures, three measures” the ICU peak depends most on R0 (22
+        to 117 beds across its range), then ..."; ``""`` when no input moves
+        it.
+    """
+    rows = tornado[tornado["swing_beds"] > 0.5].head(top)
+    if rows.empty:
+        return ""
+    parts = []
+    for i, (_, row) in enumerate(rows.iterrows()):
+        low = format_number(float(row["peak_icu_demand_at_low_beds"]))
+        high = format_number(float(row["peak_icu_demand_at_high_beds"]))
+        label = lower_first(str(row["label"]))
+        if i == 0:
+            parts.append(
+                f"{label}: {low} beds with it at the low end of its range, {high} at the high end"
+            )
+        else:
+            parts.append(f"{label} ({low} and {high})")
+    text = f"In {quoted(name)} the ICU peak depends most on {parts[0]}"
+    if len(parts) > 1:
+        text += "; then on " + " and ".join(parts[1:])
+    return text + "."
+
