@@ -35,6 +35,7 @@ from prepkit.report.style import (
     figure_bytes,
     series_style,
 )
+from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.formatting import format_date
 
 if TYPE_CHECKING:
@@ -54,6 +55,7 @@ __all__ = [
     "beds_axis",
     "chart_height",
     "date_axis",
+    "make_chart",
     "plot_series",
     "render_chart",
     "tick_number",
@@ -136,6 +138,28 @@ class Chart:
 
 
 # ---- Shared helpers ------------------------------------------------------------------------------
+
+
+def make_chart(name: str, words: ChartWords, images: tuple[bytes, bytes]) -> Chart:
+    """A drawn chart with its words.
+
+    Parameters
+    ----------
+    name : str
+        File stem (:attr:`Chart.name`).
+    words : ChartWords
+        Its title, caption and alternate text.
+    images : tuple of bytes
+        SVG and PNG bytes (:func:`render_chart`).
+
+    Returns
+    -------
+    Chart
+        The chart.
+    """
+    svg, png = images
+    return Chart(name=name, title=words.title, caption=words.caption, alt=words.alt, svg=svg,
+                 png=png)
 
 
 def render_chart(

@@ -18,6 +18,7 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
+    make_chart,
     plot_series,
     render_chart,
     tick_number,
@@ -26,7 +27,7 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
-from prepkit.report.words.alt_text import absence_alt, admissions_alt, outcomes_alt
+from prepkit.report.words.chart_words import absence_words, admissions_words, outcomes_words
 from prepkit.report.words.formatting import format_number
 from prepkit.report.words.views import ScenarioView
 
@@ -107,18 +108,8 @@ def admissions_chart(
 
     width, _ = figure_size(page_size)
     height = 0.8 + 1.8 * rows
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="daily-admissions",
-        title="Daily hospital admissions",
-        caption=(
-            "New hospital admissions of residents each day, with and without each scenario's "
-            "measures. All panels share the same scales."
-        ),
-        alt=admissions_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("daily-admissions", admissions_words(views), images)
 
 
 # ---- Total outcomes ------------------------------------------------------------------------------
@@ -179,18 +170,8 @@ def outcomes_chart(views: Sequence[ScenarioView], page_size: PageSize) -> Chart:
 
     width, _ = figure_size(page_size)
     height = 1.2 + 0.55 * len(views)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, max(2.4, height))))
-    return Chart(
-        name="total-outcomes",
-        title="Totals over the period",
-        caption=(
-            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
-            "whole period, by scenario, with and without measures."
-        ),
-        alt=outcomes_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, max(2.4, height))))
+    return make_chart("total-outcomes", outcomes_words(views), images)
 
 
 # ---- Workforce absence ---------------------------------------------------------------------------
@@ -233,17 +214,7 @@ def absence_chart(
 
     width, _ = figure_size(page_size)
     height = width * 0.42 + 0.25 * math.ceil(len(views) / 2)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="workforce-absence",
-        title="Workforce absence",
-        caption=(
-            "Share of workers off work each day with each scenario's measures: ill workers plus "
-            "workers caring for children while schools are closed."
-        ),
-        alt=absence_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("workforce-absence", absence_words(views), images)
 
 

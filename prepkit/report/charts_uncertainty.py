@@ -19,6 +19,7 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
+    make_chart,
     plot_series,
     render_chart,
     window_slice,
@@ -26,7 +27,12 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size, series_style
-from prepkit.report.words.alt_text import bands_alt, exceedance_alt, peak_dates_alt, tornado_alt
+from prepkit.report.words.chart_words_uncertainty import (
+    bands_words,
+    exceedance_words,
+    peak_dates_words,
+    tornado_words,
+)
 from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
 from prepkit.report.words.formatting import as_date, format_number
 from prepkit.report.words.views import ScenarioView
@@ -125,20 +131,8 @@ def band_chart(
 
     width, _ = figure_size(page_size)
     height = min(8.6, 0.8 + 1.75 * len(shown))
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-bands",
-        title="Bed demand across plausible futures",
-        caption=(
-            f"Ward (left) and ICU (right) demand with measures across "
-            f"{int(uncertainty.draws):,} plausible futures per scenario: median line and the "
-            f"band from the {low_pct}th to the {high_pct}th percentile. Scales differ between "
-            "scenarios."
-        ),
-        alt=bands_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-bands", bands_words(views, uncertainty), images)
 
 
 def exceedance_chart(
@@ -192,18 +186,8 @@ def exceedance_chart(
 
     width, _ = figure_size(page_size)
     height = width * 0.36 + 0.25 * math.ceil(len(views) / 2)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-exceedance",
-        title="Chance that beds run short, day by day",
-        caption=(
-            "Share of plausible futures in which demand with measures is above the available "
-            "beds on each day. Above the dashed line it is more likely than not."
-        ),
-        alt=exceedance_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-exceedance", exceedance_words(views, uncertainty), images)
 
 
 #: Width of a week's bar on the peak-date chart [days]; a gap of a day parts the weeks.
@@ -280,18 +264,8 @@ def peak_date_chart(
             date_axis(ax, window)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, 0.6 + 0.8 * len(shown))))
-    return Chart(
-        name="uncertainty-peak-dates",
-        title="When ICU demand peaks",
-        caption=(
-            "Share of plausible futures whose ICU demand (with measures) peaks in each week; the "
-            "dashed line marks the median peak date."
-        ),
-        alt=peak_dates_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, 0.6 + 0.8 * len(shown))))
+    return make_chart("uncertainty-peak-dates", peak_dates_words(views, uncertainty), images)
 
 
 #: Inputs shown on the sensitivity chart.
@@ -352,18 +326,7 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
 
     width, _ = figure_size(page_size)
     height = 1.0 + 0.36 * max(len(rows), 1)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-tornado",
-        title="Which inputs matter most",
-        caption=(
-            f"Peak ICU demand of {name}, with measures, when one input at a time is set to the "
-            "low or the high end of its range and every other input to its most likely value "
-            "(vertical line). Inputs given per age band move together."
-        ),
-        alt=tornado_alt(name, rows, len(rows)),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-tornado", tornado_words(name, rows), images)
 
 

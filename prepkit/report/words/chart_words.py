@@ -1,16 +1,16 @@
-"""Alternate text of the charts, written from their data."""
+"""Title, caption and alternate text of each chart comparing or showing the scenarios.
+
+One function per chart gives its :class:`ChartWords`; its alternate text, written
+from the data, is the function beside it.
+"""
 
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from dataclasses import dataclass
 
-import pandas as pd
-
-from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble, spread_cells
 from prepkit.report.words.formatting import (
     BED_NOUNS,
-    as_date,
     format_date,
     format_days,
     format_number,
@@ -18,6 +18,54 @@ from prepkit.report.words.formatting import (
     when_over,
 )
 from prepkit.report.words.views import ScenarioView
+
+
+@dataclass(frozen=True, kw_only=True)
+class ChartWords:
+    """The words of one chart, kept together.
+
+    Parameters
+    ----------
+    title : str
+        Short title.
+    caption : str
+        Caption printed below the chart.
+    alt : str
+        Alternate text for readers who cannot see it, written from the data.
+    """
+
+    title: str
+    caption: str
+    alt: str
+
+
+def demand_words(view: ScenarioView, observed_days: int = 0) -> ChartWords:
+    """Title, caption and alternate text of a scenario's bed-demand chart.
+
+    Parameters
+    ----------
+    view : ScenarioView
+        The scenario.
+    observed_days : int, optional
+        Days of observed figures drawn as points.
+
+    Returns
+    -------
+    ChartWords
+        The chart's words; the alternate text is :func:`demand_alt`.
+    """
+    ward = view.with_metrics.ward
+    caption = (
+        f"Beds needed by outbreak patients in the {view.name} scenario. Shaded: days on which "
+        f"demand with measures is above the available beds (beds not needed by other "
+        f"patients; {format_number(ward.available_beds)} ward and "
+        f"{format_number(view.with_metrics.icu.available_beds)} ICU beds)."
+    )
+    return ChartWords(
+        title=f"Bed demand: {view.name}",
+        caption=caption,
+        alt=demand_alt(view, observed_days=observed_days),
+    )
 
 
 def demand_alt(view: ScenarioView, observed_days: int = 0) -> str:
@@ -71,6 +119,18 @@ def demand_alt(view: ScenarioView, observed_days: int = 0) -> str:
     return " ".join(parts)
 
 
+def gap_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text (:func:`gap_alt`) of the capacity-gap timeline."""
+    return ChartWords(
+        title="When beds run short",
+        caption=(
+            "Days on which outbreak patients need more beds than are available, with measures, "
+            "for each scenario. Numbers at the right count the days (d)."
+        ),
+        alt=gap_alt(views),
+    )
+
+
 def gap_alt(views: Sequence[ScenarioView]) -> str:
     """Alternate text of the capacity-gap timeline.
 
@@ -99,6 +159,18 @@ def gap_alt(views: Sequence[ScenarioView]) -> str:
         body = "; ".join(pieces) if pieces else "no days short"
         parts.append(f"{view.name}: {body}.")
     return " ".join(parts)
+
+
+def admissions_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text (:func:`admissions_alt`) of the daily admissions chart."""
+    return ChartWords(
+        title="Daily hospital admissions",
+        caption=(
+            "New hospital admissions of residents each day, with and without each scenario's "
+            "measures. All panels share the same scales."
+        ),
+        alt=admissions_alt(views),
+    )
 
 
 def admissions_alt(views: Sequence[ScenarioView]) -> str:
@@ -131,6 +203,18 @@ def admissions_alt(views: Sequence[ScenarioView]) -> str:
     return " ".join(parts)
 
 
+def outcomes_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text (:func:`outcomes_alt`) of the total outcomes chart."""
+    return ChartWords(
+        title="Totals over the period",
+        caption=(
+            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
+            "whole period, by scenario, with and without measures."
+        ),
+        alt=outcomes_alt(views),
+    )
+
+
 def outcomes_alt(views: Sequence[ScenarioView]) -> str:
     """Alternate text of the total outcomes chart.
 
@@ -161,6 +245,18 @@ def outcomes_alt(views: Sequence[ScenarioView]) -> str:
     return " ".join(parts)
 
 
+def absence_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text (:func:`absence_alt`) of the workforce absence chart."""
+    return ChartWords(
+        title="Workforce absence",
+        caption=(
+            "Share of workers off work each day with each scenario's measures: ill workers plus "
+            "workers caring for children while schools are closed."
+        ),
+        alt=absence_alt(views),
+    )
+
+
 def absence_alt(views: Sequence[ScenarioView]) -> str:
     """Alternate text of the workforce absence chart.
 
@@ -182,144 +278,3 @@ def absence_alt(views: Sequence[ScenarioView]) -> str:
             f"{format_date(m.peak_absence_date)}."
         )
     return " ".join(parts)
-
-
-def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
-    """Alternate text of the uncertainty-band chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the range of the ward and ICU peaks.
-    """
-    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
-    low, high = round(100 * min(uncertainty.quantiles)), round(100 * max(uncertainty.quantiles))
-    parts = [
-        f"Ward and ICU demand with measures: the middle line is the median of "
-        f"{int(uncertainty.draws):,} plausible futures, the band runs from the {low}th to the "
-        f"{high}th percentile."
-    ]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        s = result.with_interventions.summary
-        texts = []
-        for kind in ("ward", "icu"):
-            central, median, spread = spread_cells(
-                getattr(view.with_metrics, kind).peak_demand_beds,
-                s.loc[f"peak_{kind}_demand_beds"], q_low, q_mid, q_high,
-            )
-            texts.append(
-                f"{BED_NOUNS[kind][1]} peak {spread} beds (median {median}, central run {central})"
-            )
-        parts.append(f"{view.name}: {'; '.join(texts)}.")
-    return " ".join(parts)
-
-
-def exceedance_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
-    """Alternate text of the daily exceedance-probability chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the highest daily chance that ward and ICU beds
-        run short, and when.
-    """
-    parts = ["Share of plausible futures in which demand is above the available beds, each day."]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        e = result.with_interventions.exceedance
-        pieces = []
-        for kind, column in (("ward", "ward_exceedance_probability"),
-                             ("ICU", "icu_exceedance_probability")):
-            series = e[column]
-            top = float(series.max()) if len(series) else 0.0
-            when = format_date(pd.Timestamp(series.idxmax()).date()) if top > 0 else "no day"
-            pieces.append(f"{kind} highest {format_percent(top)} on {when}")
-        parts.append(f"{view.name}: " + ", ".join(pieces) + ".")
-    return " ".join(parts)
-
-
-def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
-    """Alternate text of the peak-date chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the range and median of the ICU peak date.
-    """
-    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
-    parts = ["When ICU demand peaks across the plausible futures, with measures, by week."]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        row = result.with_interventions.peak_dates.loc["icu_demand"]
-        low, mid, high = (as_date(row[q]) for q in (q_low, q_mid, q_high))
-        if mid is None:
-            parts.append(f"{view.name}: no ICU demand.")
-            continue
-        parts.append(
-            f"{view.name}: between {format_date(low)} and {format_date(high)}, median "
-            f"{format_date(mid)}."
-        )
-    return " ".join(parts)
-
-
-def tornado_alt(name: str, tornado: pd.DataFrame, top: int) -> str:
-    """Alternate text of the sensitivity (tornado) chart.
-
-    Parameters
-    ----------
-    name : str
-        Scenario name.
-    tornado : pandas.DataFrame
-        ``tornado_peak_icu`` of its ensemble with measures.
-    top : int
-        How many inputs the chart shows.
-
-    Returns
-    -------
-    str
-        The inputs in order of their effect on the ICU peak, with the peak at
-        each end of their range.
-    """
-    rows = tornado.head(top)
-    base = float(rows["peak_icu_demand_baseline_beds"].iloc[0]) if len(rows) else 0.0
-    parts = [
-        f"How the ICU peak of {name} ({format_number(base)} beds at the most likely values) "
-        "moves when one input at a time goes to the low or high end of its range, largest "
-        "effect first."
-    ]
-    for _, row in rows.iterrows():
-        parts.append(
-            f"{row['label']}: {format_number(float(row['peak_icu_demand_at_low_beds']))} at the "
-            f"low end, {format_number(float(row['peak_icu_demand_at_high_beds']))} at the high "
-            "end."
-        )
-    return " ".join(parts)
-
