@@ -20,16 +20,6 @@ from prepkit.report.words.ensemble_format import (
 from prepkit.report.words.formatting import as_date, format_date, format_number, lower_first, quoted
 from prepkit.report.words.views import ScenarioView
 
-#: Said where the central run's figures meet the ensemble's (uncertainty page).
-HEADLINE_POLICY = (
-    "Every figure outside this section comes from the central run: one run of each scenario "
-    "at its own transmissibility and severity levels, with every other input at its Central "
-    "value. The table below puts that run beside the median and the range of the {draws} "
-    "runs. The two need not agree: the runs draw each input from around its level (a High "
-    "level from Central to High), and outcomes do not respond evenly to the inputs, so the "
-    "middle of the runs can sit above or below the central run."
-)
-
 
 def _exceedance_sentence(view: ScenarioView, result: Any) -> str:
     any_day = result.exceedance_any_day
@@ -91,17 +81,13 @@ def ensemble_context(
         result = scenario_ensemble(uncertainty, focus.name)
         if result is not None:
             drivers = drivers_sentence(focus.name, result.with_interventions.tornado_peak_icu)
-    intro, method, references = _method_text(uncertainty)
     return {
         "draws": f"{draws:,}",
         "sentences": tuple(sentences),
-        "intro": intro,
         "rows": tuple(rows),
         "spread_rows": tuple(spread),
-        "headline_policy": HEADLINE_POLICY.format(draws=f"{draws:,}"),
         "drivers": drivers,
-        "method": method,
-        "references": references,
+        "seed": uncertainty.seed,
         "range_words": range_words,
         "focus": focus.name if focus is not None else "",
         "low_pct": round(100 * min(uncertainty.quantiles)),
@@ -185,46 +171,6 @@ def _ensemble_rows(
     return chances, rows, spread
 
 
-def _method_text(uncertainty: Any) -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
-    """The uncertainty page's introduction, the methods appendix and its references."""
-    draws = int(uncertainty.draws)
-    intro = (
-        f"Each scenario was run {draws:,} times. Every run draws each uncertain input (how fast "
-        "the disease spreads, the latent and infectious periods, who needs a hospital or ICU "
-        "bed and for how long, how well the measures are followed, how well the vaccine "
-        "protects) from the Low to High range given in the workbook, most often near the "
-        "Central value. The spread of the results shows how much the figures depend on those "
-        "inputs.",
-        "It does not cover everything that could happen: inputs given as a single value stay "
-        "fixed, and every run uses the same model. Read the ranges as the consequences of the "
-        "workbook's ranges, not as odds of what will happen.",
-    )
-    method = (
-        f"Each scenario is run {draws:,} times with and without its measures, using the same "
-        f"draws for every scenario (random seed {uncertainty.seed}). Each uncertain input is "
-        "drawn from a beta-PERT distribution over its range with the Central value as the most "
-        "likely (Malcolm, Roseboom, Clark & Fazar 1959); the draws are spread evenly over "
-        "every input's range by Latin hypercube sampling (McKay, Beckman & Conover 1979). "
-        "Transmissibility and the admission and ICU shares are drawn around the scenario's "
-        "own level; the other inputs over their whole range. Inputs given per age band move "
-        "together: a draw with long ICU stays has long stays in every band.",
-        f"Ranges in this pack run from the {round(100 * min(uncertainty.quantiles))}th to the "
-        f"{round(100 * max(uncertainty.quantiles))}th percentile of the draws, shown beside "
-        "the median and the central run. The chance of running short is the share of draws in "
-        "which demand is above the available beds on at least one day. The sensitivity chart "
-        "moves one input at a time to each end of its range while the others stay at their "
-        "most likely values.",
-    )
-    references = (
-        "Malcolm DG, Roseboom JH, Clark CE, Fazar W (1959). Application of a technique for "
-        "research and development program evaluation. Operations Research 7:646–669.",
-        "McKay MD, Beckman RJ, Conover WJ (1979). A comparison of three methods for selecting "
-        "values of input variables in the analysis of output from a computer code. "
-        "Technometrics 21:239–245.",
-    )
-    return intro, method, references
-
-
 def drivers_sentence(name: str, tornado: pd.DataFrame, top: int = 3) -> str:
     """Which inputs move the ICU peak most, from a one-at-a-time sensitivity table.
 
@@ -262,4 +208,3 @@ def drivers_sentence(name: str, tornado: pd.DataFrame, top: int = 3) -> str:
     if len(parts) > 1:
         text += "; then on " + " and ".join(parts[1:])
     return text + "."
-
