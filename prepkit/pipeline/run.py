@@ -550,8 +550,8 @@ def render_pack(
     tell("Drawing the charts")
     ensemble_words = ensemble_context(plan, views, ensemble)
     jobs = chart_jobs(plan, views)
-    if ensemble_words is not None:
-        jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words["focus"])
+    if ensemble is not None and ensemble_words is not None:
+        jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words.focus)
     charts = tuple(run_jobs(jobs))
     listed = [*PACK_FILES, *extra_files]
     bands_csv = uncertainty_daily_csv(ensemble)

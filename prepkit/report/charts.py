@@ -24,7 +24,6 @@ order of the pack, and is the one to import:
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from typing import Any
 
 from prepkit.plan import Plan
 from prepkit.report.charts_base import PNG_DPI, Chart, render_chart
@@ -45,6 +44,7 @@ from prepkit.report.charts_windows import (
 )
 from prepkit.report.style import PageSize
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.run import UncertaintyResults
 
 __all__ = [
     "PNG_DPI",
@@ -73,7 +73,7 @@ __all__ = [
 def uncertainty_chart_jobs(
     plan: Plan,
     views: Sequence[ScenarioView],
-    uncertainty: Any,
+    uncertainty: UncertaintyResults,
     *,
     focus: str,
     page_size: PageSize | None = None,
@@ -118,7 +118,7 @@ def uncertainty_chart_jobs(
 def draw_uncertainty_charts(
     plan: Plan,
     views: Sequence[ScenarioView],
-    uncertainty: Any,
+    uncertainty: UncertaintyResults,
     *,
     focus: str,
     page_size: PageSize | None = None,

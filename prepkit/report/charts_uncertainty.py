@@ -5,7 +5,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 from collections.abc import Sequence
-from typing import Any
 
 import matplotlib
 import matplotlib.dates as mdates
@@ -36,6 +35,7 @@ from prepkit.report.words.chart_words_uncertainty import (
 from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
 from prepkit.report.words.formatting import as_date, format_number
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.run import EnsembleResult, UncertaintyResults
 
 __all__ = [
     "BAR_DAYS",
@@ -52,15 +52,15 @@ __all__ = [
 BAND_FILL = "#A6D2F0"
 
 
-def ensemble_of(uncertainty: Any, name: str) -> Any | None:
+def ensemble_of(uncertainty: UncertaintyResults, name: str) -> EnsembleResult | None:
     """The ensemble of a scenario with its measures, or None when it has none."""
     item = scenario_ensemble(uncertainty, name)
     return None if item is None else item.with_interventions
 
 
 def _with_ensembles(
-    views: Sequence[ScenarioView], uncertainty: Any
-) -> list[tuple[ScenarioView, Any]]:
+    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
+) -> list[tuple[ScenarioView, EnsembleResult]]:
     out = []
     for view in views:
         result = ensemble_of(uncertainty, view.name)
@@ -69,13 +69,13 @@ def _with_ensembles(
     return out
 
 
-def _q_columns(uncertainty: Any) -> tuple[str, str, str]:
+def _q_columns(uncertainty: UncertaintyResults) -> tuple[str, str, str]:
     return band_columns(uncertainty.quantiles)
 
 
 def band_chart(
     views: Sequence[ScenarioView],
-    uncertainty: Any,
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -137,7 +137,7 @@ def band_chart(
 
 def exceedance_chart(
     views: Sequence[ScenarioView],
-    uncertainty: Any,
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -194,7 +194,7 @@ def exceedance_chart(
 BAR_DAYS = 6.0
 
 
-def weekly_peak_shares(result: Any) -> pd.Series:
+def weekly_peak_shares(result: EnsembleResult) -> pd.Series:
     """Share of futures whose ICU demand peaks in each week, for the weeks holding a peak.
 
     Parameters
@@ -218,7 +218,7 @@ def weekly_peak_shares(result: Any) -> pd.Series:
 
 def peak_date_chart(
     views: Sequence[ScenarioView],
-    uncertainty: Any,
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -272,7 +272,9 @@ def peak_date_chart(
 TORNADO_TOP = 8
 
 
-def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNADO_TOP) -> Chart:
+def tornado_chart(
+    name: str, result: EnsembleResult, page_size: PageSize, top: int = TORNADO_TOP
+) -> Chart:
     """How the ICU peak of one scenario moves with each uncertain input (tornado chart).
 
     Parameters

@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Sequence
-from typing import Any
 
 import numpy as np
 
@@ -20,6 +19,7 @@ from prepkit.report.charts_base import BUSY_SHARE, TAIL_DAYS, as_day
 from prepkit.report.charts_uncertainty import BAR_DAYS, ensemble_of, weekly_peak_shares
 from prepkit.report.words.ensemble_format import band_columns
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.run import UncertaintyResults
 
 __all__ = ["chart_window", "ensemble_window", "exceedance_window", "gap_window"]
 
@@ -100,7 +100,9 @@ def gap_window(
 
 
 def ensemble_window(
-    views: Sequence[ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
+    window: tuple[dt.date, dt.date],
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the band and peak-date charts: wide enough for the late futures.
 
@@ -147,7 +149,9 @@ def ensemble_window(
 
 
 def exceedance_window(
-    views: Sequence[ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
+    window: tuple[dt.date, dt.date],
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the exceedance chart: day 0 to four weeks after the last chance of a gap.
 

@@ -281,7 +281,7 @@ def test_no_chart_of_the_pack_clips_its_data(
     assert focus is not None
     jobs: list[Callable[[], charts.Chart]] = [
         *charts.chart_jobs(plan, views),
-        *charts.uncertainty_chart_jobs(plan, views, ensemble, focus=focus["focus"]),
+        *charts.uncertainty_chart_jobs(plan, views, ensemble, focus=focus.focus),
     ]
     made = [job() for job in jobs]
     assert len(drawn) == len(made) == len(views) + 4 + 4

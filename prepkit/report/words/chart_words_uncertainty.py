@@ -8,7 +8,12 @@ from typing import Any
 import pandas as pd
 
 from prepkit.report.words.chart_words import ChartWords
-from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble, spread_cells
+from prepkit.report.words.ensemble_format import (
+    band_columns,
+    scenario_ensemble,
+    spread_cells,
+    summary_row,
+)
 from prepkit.report.words.formatting import (
     BED_NOUNS,
     as_date,
@@ -17,9 +22,10 @@ from prepkit.report.words.formatting import (
     format_percent,
 )
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.run import UncertaintyResults
 
 
-def bands_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWords:
+def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> ChartWords:
     """Title, caption and alternate text (:func:`bands_alt`) of the uncertainty-band chart.
 
     Parameters
@@ -48,7 +54,7 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWords:
     )
 
 
-def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
+def bands_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
     """Alternate text of the uncertainty-band chart.
 
     Parameters
@@ -74,12 +80,12 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
         result = scenario_ensemble(uncertainty, view.name)
         if result is None:
             continue
-        s = result.with_interventions.summary
         texts = []
         for kind in ("ward", "icu"):
             central, median, spread = spread_cells(
                 getattr(view.with_metrics, kind).peak_demand_beds,
-                s.loc[f"peak_{kind}_demand_beds"], q_low, q_mid, q_high,
+                summary_row(result.with_interventions, f"peak_{kind}_demand_beds"),
+                q_low, q_mid, q_high,
             )
             texts.append(
                 f"{BED_NOUNS[kind][1]} peak {spread} beds (median {median}, central run {central})"
@@ -88,7 +94,9 @@ def bands_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
     return " ".join(parts)
 
 
-def exceedance_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWords:
+def exceedance_words(
+    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
+) -> ChartWords:
     """Title, caption and alternate text (:func:`exceedance_alt`) of the exceedance chart."""
     return ChartWords(
         title="Chance that beds run short, day by day",
@@ -100,7 +108,7 @@ def exceedance_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWo
     )
 
 
-def exceedance_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
+def exceedance_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
     """Alternate text of the daily exceedance-probability chart.
 
     Parameters
@@ -127,13 +135,16 @@ def exceedance_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
                              ("ICU", "icu_exceedance_probability")):
             series = e[column]
             top = float(series.max()) if len(series) else 0.0
-            when = format_date(pd.Timestamp(series.idxmax()).date()) if top > 0 else "no day"
+            peak_day: Any = series.idxmax()
+            when = format_date(pd.Timestamp(peak_day).date()) if top > 0 else "no day"
             pieces.append(f"{kind} highest {format_percent(top)} on {when}")
         parts.append(f"{view.name}: " + ", ".join(pieces) + ".")
     return " ".join(parts)
 
 
-def peak_dates_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWords:
+def peak_dates_words(
+    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
+) -> ChartWords:
     """Title, caption and alternate text (:func:`peak_dates_alt`) of the peak-date chart."""
     return ChartWords(
         title="When ICU demand peaks",
@@ -145,7 +156,7 @@ def peak_dates_words(views: Sequence[ScenarioView], uncertainty: Any) -> ChartWo
     )
 
 
-def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: Any) -> str:
+def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
     """Alternate text of the peak-date chart.
 
     Parameters

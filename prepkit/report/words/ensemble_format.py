@@ -9,7 +9,12 @@ from typing import Any
 import pandas as pd
 
 from prepkit.report.words.formatting import Period, format_number, periods_over
-from prepkit.uncertainty.run import quantile_label
+from prepkit.uncertainty.run import (
+    EnsembleResult,
+    ScenarioUncertainty,
+    UncertaintyResults,
+    quantile_label,
+)
 
 
 def chance_phrase(share: float) -> str:
@@ -62,7 +67,7 @@ def likely_period(probability: pd.Series, threshold: float = 0.5) -> Period | No
     return runs[0] if runs else None
 
 
-def spread_cells(central: float, row: Any, q_low: str, q_mid: str, q_high: str) -> tuple[
+def spread_cells(central: float, row: pd.Series, q_low: str, q_mid: str, q_high: str) -> tuple[
     str, str, str
 ]:
     """Central run, median and range of one quantity, formatted alike [beds or bed-days]."""
@@ -73,12 +78,26 @@ def spread_cells(central: float, row: Any, q_low: str, q_mid: str, q_high: str) 
     )
 
 
-def scenario_ensemble(uncertainty: Any, name: str) -> Any | None:
-    """The ensemble of scenario ``name`` (a ScenarioUncertainty), or None when it has none."""
-    for item in getattr(uncertainty, "scenarios", ()):
+def scenario_ensemble(
+    uncertainty: UncertaintyResults | None, name: str
+) -> ScenarioUncertainty | None:
+    """The ensemble of scenario ``name``, or None when it has none (or there is no ensemble)."""
+    for item in uncertainty.scenarios if uncertainty is not None else ():
         if item.scenario == name:
             return item
     return None
+
+
+def any_day_chance(result: EnsembleResult, kind: str) -> float:
+    """Share of draws in which ``kind`` beds ("ward" or "icu") run short on some day [fraction]."""
+    value: Any = result.exceedance_any_day.loc[kind, "any_day_probability"]
+    return float(value)
+
+
+def summary_row(result: EnsembleResult, quantity: str) -> pd.Series:
+    """One quantity of an ensemble's ``summary``: its quantiles, by column suffix."""
+    row: Any = result.summary.loc[quantity]
+    return row
 
 
 def band_columns(quantiles: Sequence[float]) -> tuple[str, str, str]:

@@ -2,8 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
-from typing import Any
+from collections.abc import Sequence
 
 from prepkit.base.plural import all_of
 from prepkit.plan import Plan
@@ -16,6 +15,7 @@ from prepkit.report.words.formatting import (
     quoted,
 )
 from prepkit.report.words.scenario_text import measures_sentence
+from prepkit.report.words.uncertainty_text import EnsembleWords
 from prepkit.report.words.views import ScenarioView
 
 #: Caution printed on the cover, the leader page and the limitations page.
@@ -180,7 +180,7 @@ def headline_measures_text(view: ScenarioView) -> str:
 def certainty_sentences(
     plan: Plan,
     views: Sequence[ScenarioView],
-    ensemble: Mapping[str, Any] | None = None,
+    ensemble: EnsembleWords | None = None,
 ) -> tuple[str, ...]:
     """How certain the figures are, in words.
 
@@ -190,17 +190,17 @@ def certainty_sentences(
         The plan (for the number of draws asked for).
     views : sequence of ScenarioView
         Every scenario.
-    ensemble : mapping, optional
-        Sentences prepared from the uncertainty ensemble (key
-        ``"sentences"``); None when no ensemble was run.
+    ensemble : EnsembleWords, optional
+        The words of the uncertainty ensemble (its ``sentences``); None
+        when no ensemble was run.
 
     Returns
     -------
     tuple of str
         Two or three sentences.
     """
-    if ensemble is not None and ensemble.get("sentences"):
-        return tuple(str(s) for s in ensemble["sentences"])
+    if ensemble is not None and ensemble.sentences:
+        return ensemble.sentences
     out = [
         "Each figure here comes from one run at the scenario's own assumptions; it is not a "
         "range."

@@ -26,6 +26,7 @@ from prepkit.report.words.measures import measure_rows
 from prepkit.report.words.uncertainty_text import ensemble_context
 from prepkit.report.words.views import scenario_views, with_observations
 from prepkit.scenarios.runs import PlanResults
+from prepkit.uncertainty.run import UncertaintyResults
 
 
 def provenance_line(plan: Plan, *, version: str, generated: dt.datetime) -> str:
@@ -109,7 +110,7 @@ def build_context(
     figures: PackFigures,
     version: str,
     generated: dt.datetime,
-    uncertainty: Any | None = None,
+    uncertainty: UncertaintyResults | None = None,
     files: Sequence[tuple[str, str]] = (),
     notes: Sequence[str] = (),
     inline_css: str | None = None,

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import dataclass
 from typing import Any
 
 import pandas as pd
@@ -10,21 +11,61 @@ import pandas as pd
 from prepkit.plan import Plan
 from prepkit.report.words.comparison import TableRow
 from prepkit.report.words.ensemble_format import (
+    any_day_chance,
     band_columns,
     chance_cell,
     chance_phrase,
     likely_period,
     scenario_ensemble,
     spread_cells,
+    summary_row,
 )
 from prepkit.report.words.formatting import as_date, format_date, format_number, lower_first, quoted
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.run import EnsembleResult, UncertaintyResults
 
 
-def _exceedance_sentence(view: ScenarioView, result: Any) -> str:
-    any_day = result.exceedance_any_day
-    icu = float(any_day.loc["icu", "any_day_probability"])
-    ward = float(any_day.loc["ward", "any_day_probability"])
+@dataclass(frozen=True, kw_only=True)
+class EnsembleWords:
+    """Words and table rows from the uncertainty ensemble, as the pack places them.
+
+    Parameters
+    ----------
+    draws : str
+        Runs per scenario and variant, formatted (``1,000``).
+    seed : int
+        Random seed of the draws.
+    sentences : tuple of str
+        The leader page's sentences on how certain the figures are.
+    rows : tuple of TableRow
+        Chance of running short and ward peak dates, one row per scenario.
+    spread_rows : tuple of TableRow
+        Central run, median and range of the peaks and unmet bed-days.
+    drivers : str
+        Which inputs move the ICU peak most ("" when none does).
+    range_words : str
+        Share of the futures within the ranges (``9 of 10``).
+    focus : str
+        Scenario of the sensitivity chart ("" without scenarios).
+    low_pct, high_pct : int
+        Percentiles that bound the ranges.
+    """
+
+    draws: str
+    seed: int
+    sentences: tuple[str, ...]
+    rows: tuple[TableRow, ...]
+    spread_rows: tuple[TableRow, ...]
+    drivers: str
+    range_words: str
+    focus: str
+    low_pct: int
+    high_pct: int
+
+
+def _exceedance_sentence(view: ScenarioView, result: EnsembleResult) -> str:
+    icu = any_day_chance(result, "icu")
+    ward = any_day_chance(result, "ward")
     text = (
         f"In {chance_phrase(icu)} plausible futures of {quoted(view.name)}, ICU demand exceeds "
         f"the available beds at some point"
@@ -41,8 +82,8 @@ def _exceedance_sentence(view: ScenarioView, result: Any) -> str:
 
 
 def ensemble_context(
-    plan: Plan, views: Sequence[ScenarioView], uncertainty: Any
-) -> dict[str, Any] | None:
+    plan: Plan, views: Sequence[ScenarioView], uncertainty: UncertaintyResults | None
+) -> EnsembleWords | None:
     """Words and table rows from the uncertainty ensemble.
 
     Parameters
@@ -56,13 +97,12 @@ def ensemble_context(
 
     Returns
     -------
-    dict or None
-        ``sentences`` (leader page), ``intro``, ``rows`` (table),
-        ``drivers`` (what matters most), ``method`` (appendix),
-        ``references``, ``draws``, ``range_words``, ``focus`` (scenario
-        of the tornado chart).
+    EnsembleWords or None
+        The numbers and sentences the pack shows; the prose around them
+        (what the runs are, the methods and their references) is in the
+        templates.
     """
-    if uncertainty is None or not getattr(uncertainty, "scenarios", ()):
+    if uncertainty is None or not uncertainty.scenarios:
         return None
     share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
     range_words = f"{round(10 * share)} of 10"
@@ -81,22 +121,22 @@ def ensemble_context(
         result = scenario_ensemble(uncertainty, focus.name)
         if result is not None:
             drivers = drivers_sentence(focus.name, result.with_interventions.tornado_peak_icu)
-    return {
-        "draws": f"{draws:,}",
-        "sentences": tuple(sentences),
-        "rows": tuple(rows),
-        "spread_rows": tuple(spread),
-        "drivers": drivers,
-        "seed": uncertainty.seed,
-        "range_words": range_words,
-        "focus": focus.name if focus is not None else "",
-        "low_pct": round(100 * min(uncertainty.quantiles)),
-        "high_pct": round(100 * max(uncertainty.quantiles)),
-    }
+    return EnsembleWords(
+        draws=f"{draws:,}",
+        sentences=tuple(sentences),
+        rows=tuple(rows),
+        spread_rows=tuple(spread),
+        drivers=drivers,
+        seed=uncertainty.seed,
+        range_words=range_words,
+        focus=focus.name if focus is not None else "",
+        low_pct=round(100 * min(uncertainty.quantiles)),
+        high_pct=round(100 * max(uncertainty.quantiles)),
+    )
 
 
 def _focus_sentences(
-    uncertainty: Any, focus: ScenarioView | None, range_words: str
+    uncertainty: UncertaintyResults, focus: ScenarioView | None, range_words: str
 ) -> list[str]:
     """The leader page's first sentences on the ensemble, on the scenario shortest of beds."""
     q_low, _, q_high = band_columns(uncertainty.quantiles)
@@ -109,7 +149,7 @@ def _focus_sentences(
         result = scenario_ensemble(uncertainty, focus.name)
         if result is not None:
             sentences.append(_exceedance_sentence(focus, result.with_interventions))
-            peak = result.with_interventions.summary.loc["peak_icu_demand_beds"]
+            peak = summary_row(result.with_interventions, "peak_icu_demand_beds")
             sentences.append(
                 f"Its ICU peak lies between {format_number(float(peak[q_low]), words=True)} and "
                 f"{format_number(float(peak[q_high]), words=True)} beds in {range_words} "
@@ -120,7 +160,7 @@ def _focus_sentences(
 
 
 def _ensemble_rows(
-    views: Sequence[ScenarioView], uncertainty: Any
+    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
 ) -> tuple[list[str], list[TableRow], list[TableRow]]:
     """Each scenario's chance of ICU beds running short, its chance table row and spread row."""
     q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
@@ -132,19 +172,14 @@ def _ensemble_rows(
         if result is None:
             continue
         e = result.with_interventions
-        any_day = e.exceedance_any_day
-        s = e.summary
-        dates = e.peak_dates
-        chances.append(
-            f"{quoted(view.name)} {chance_cell(float(any_day.loc['icu', 'any_day_probability']))}"
-        )
-        ward_peak_dates = dates.loc["ward_demand"]
+        chances.append(f"{quoted(view.name)} {chance_cell(any_day_chance(e, 'icu'))}")
+        ward_peak_dates: Any = e.peak_dates.loc["ward_demand"]
         rows.append(
             TableRow(
                 label=view.name,
                 cells=(
-                    chance_cell(float(any_day.loc["ward", "any_day_probability"])),
-                    chance_cell(float(any_day.loc["icu", "any_day_probability"])),
+                    chance_cell(any_day_chance(e, "ward")),
+                    chance_cell(any_day_chance(e, "icu")),
                     (
                         f"{format_date(as_date(ward_peak_dates[q_low]), year=False)} to "
                         f"{format_date(as_date(ward_peak_dates[q_high]), year=False)}"
@@ -159,11 +194,11 @@ def _ensemble_rows(
             TableRow(
                 label=view.name,
                 cells=(
-                    *spread_cells(m.ward.peak_demand_beds, s.loc["peak_ward_demand_beds"],
+                    *spread_cells(m.ward.peak_demand_beds, summary_row(e, "peak_ward_demand_beds"),
                                   q_low, q_mid, q_high),
-                    *spread_cells(m.icu.peak_demand_beds, s.loc["peak_icu_demand_beds"],
+                    *spread_cells(m.icu.peak_demand_beds, summary_row(e, "peak_icu_demand_beds"),
                                   q_low, q_mid, q_high),
-                    *spread_cells(view.unmet_bed_days, s.loc["total_unmet_bed_days"],
+                    *spread_cells(view.unmet_bed_days, summary_row(e, "total_unmet_bed_days"),
                                   q_low, q_mid, q_high),
                 ),
             )

@@ -5,7 +5,6 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, replace
-from typing import Any
 
 import pandas as pd
 
@@ -33,6 +32,7 @@ from prepkit.report.words.scenario_text import (
     ventilator_sentence,
 )
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun, column_slug
+from prepkit.uncertainty.run import UncertaintyResults
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -233,7 +233,7 @@ def scenario_views(plan: Plan, results: PlanResults) -> tuple[ScenarioView, ...]
 
 
 def with_observations(
-    plan: Plan, views: Sequence[ScenarioView], uncertainty: Any | None = None
+    plan: Plan, views: Sequence[ScenarioView], uncertainty: UncertaintyResults | None = None
 ) -> tuple[ScenarioView, ...]:
     """The views with each scenario checked against the latest observed census.
 
