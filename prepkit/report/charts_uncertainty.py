@@ -34,7 +34,7 @@ from prepkit.report.words.chart_words_uncertainty import (
 )
 from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
 from prepkit.report.words.formatting import as_date, format_number
-from prepkit.report.words.views import ScenarioView
+from prepkit.report.words.views import ScenarioView, with_ensembles
 from prepkit.uncertainty.run import EnsembleResult, UncertaintyResults
 
 __all__ = [
@@ -56,21 +56,6 @@ def ensemble_of(uncertainty: UncertaintyResults, name: str) -> EnsembleResult | 
     """The ensemble of a scenario with its measures, or None when it has none."""
     item = scenario_ensemble(uncertainty, name)
     return None if item is None else item.with_interventions
-
-
-def _with_ensembles(
-    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
-) -> list[tuple[ScenarioView, EnsembleResult]]:
-    out = []
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is not None:
-            out.append((view, result))
-    return out
-
-
-def _q_columns(uncertainty: UncertaintyResults) -> tuple[str, str, str]:
-    return band_columns(uncertainty.quantiles)
 
 
 def band_chart(
@@ -98,10 +83,10 @@ def band_chart(
         Median line and low-to-high percentile band of the draws (with
         measures), against the available beds.
     """
-    q_low, q_mid, q_high = _q_columns(uncertainty)
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     low_pct = round(100 * min(uncertainty.quantiles))
     high_pct = round(100 * max(uncertainty.quantiles))
-    shown = _with_ensembles(views, uncertainty)
+    shown = with_ensembles(views, uncertainty)
 
     def draw(fig: Figure) -> None:
         axes = np.atleast_2d(fig.subplots(len(shown), 2, sharex=True, squeeze=False))
@@ -241,8 +226,8 @@ def peak_date_chart(
         One strip per scenario: share of futures whose ICU peak falls in
         each week, and the median peak date.
     """
-    shown = _with_ensembles(views, uncertainty)
-    _, q_mid, _ = _q_columns(uncertainty)
+    shown = with_ensembles(views, uncertainty)
+    _, q_mid, _ = band_columns(uncertainty.quantiles)
 
     def draw(fig: Figure) -> None:
         axes = np.atleast_1d(fig.subplots(len(shown), 1, sharex=True, squeeze=False)).ravel()

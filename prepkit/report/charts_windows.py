@@ -16,9 +16,9 @@ from collections.abc import Sequence
 import numpy as np
 
 from prepkit.report.charts_base import BUSY_SHARE, TAIL_DAYS, as_day
-from prepkit.report.charts_uncertainty import BAR_DAYS, ensemble_of, weekly_peak_shares
+from prepkit.report.charts_uncertainty import BAR_DAYS, weekly_peak_shares
 from prepkit.report.words.ensemble_format import band_columns
-from prepkit.report.words.views import ScenarioView
+from prepkit.report.words.views import ScenarioView, with_ensembles
 from prepkit.uncertainty.run import UncertaintyResults
 
 __all__ = ["chart_window", "ensemble_window", "exceedance_window", "gap_window"]
@@ -128,9 +128,8 @@ def ensemble_window(
     """
     _, _, q_high = band_columns(uncertainty.quantiles)
     last = window[1]
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is None or result.daily.empty:
+    for _, result in with_ensembles(views, uncertainty):
+        if result.daily.empty:
             continue
         daily = result.daily
         end_of_run = as_day(daily.index[-1])
@@ -171,10 +170,7 @@ def exceedance_window(
         First and last day shown, inside ``window``.
     """
     last: dt.date | None = None
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is None:
-            continue
+    for _, result in with_ensembles(views, uncertainty):
         frame = result.exceedance
         busy = frame[(frame[["ward_exceedance_probability", "icu_exceedance_probability"]]
                       .max(axis=1) > 0.005)]

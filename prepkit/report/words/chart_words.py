@@ -52,7 +52,9 @@ def demand_words(view: ScenarioView, observed_days: int = 0) -> ChartWords:
     Returns
     -------
     ChartWords
-        The chart's words; the alternate text is :func:`demand_alt`.
+        The chart's words. The alternate text gives each panel's peak and
+        date against the available (and surge) beds, when demand is above
+        them, and the peak without measures.
     """
     ward = view.with_metrics.ward
     caption = (
@@ -61,30 +63,6 @@ def demand_words(view: ScenarioView, observed_days: int = 0) -> ChartWords:
         f"patients; {format_number(ward.available_beds)} ward and "
         f"{format_number(view.with_metrics.icu.available_beds)} ICU beds)."
     )
-    return ChartWords(
-        title=f"Bed demand: {view.name}",
-        caption=caption,
-        alt=demand_alt(view, observed_days=observed_days),
-    )
-
-
-def demand_alt(view: ScenarioView, observed_days: int = 0) -> str:
-    """Alternate text of a scenario's bed-demand chart, written from its data.
-
-    Parameters
-    ----------
-    view : ScenarioView
-        The scenario.
-    observed_days : int, optional
-        Days of observed figures drawn as points.
-
-    Returns
-    -------
-    str
-        What the chart shows: each panel's peak and date against the
-        available (and surge) beds, when demand is above them, and the peak
-        without measures.
-    """
     parts = [f"Two panels for the scenario {view.name}, ward beds above and ICU beds below."]
     for kind, bed, bed_without in (
         ("ward", view.with_metrics.ward, view.without_metrics.ward),
@@ -116,34 +94,19 @@ def demand_alt(view: ScenarioView, observed_days: int = 0) -> str:
         parts.append(text + ".")
     if observed_days:
         parts.append(f"Observed patients on {format_days(observed_days)} are drawn as dots.")
-    return " ".join(parts)
-
-
-def gap_words(views: Sequence[ScenarioView]) -> ChartWords:
-    """Title, caption and alternate text (:func:`gap_alt`) of the capacity-gap timeline."""
+    alt = " ".join(parts)
     return ChartWords(
-        title="When beds run short",
-        caption=(
-            "Days on which outbreak patients need more beds than are available, with measures, "
-            "for each scenario. Numbers at the right count the days (d)."
-        ),
-        alt=gap_alt(views),
+        title=f"Bed demand: {view.name}",
+        caption=caption,
+        alt=alt,
     )
 
 
-def gap_alt(views: Sequence[ScenarioView]) -> str:
-    """Alternate text of the capacity-gap timeline.
+def gap_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text of the capacity-gap timeline.
 
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-
-    Returns
-    -------
-    str
-        For each scenario, the days ward and ICU beds run short and from
-        when.
+    The alternate text gives, for each scenario, the days ward and ICU beds
+    run short and from when.
     """
     parts = ["Timeline of the days on which beds run short, one strip per scenario and bed type."]
     for view in views:
@@ -158,34 +121,22 @@ def gap_alt(views: Sequence[ScenarioView]) -> str:
                 )
         body = "; ".join(pieces) if pieces else "no days short"
         parts.append(f"{view.name}: {body}.")
-    return " ".join(parts)
-
-
-def admissions_words(views: Sequence[ScenarioView]) -> ChartWords:
-    """Title, caption and alternate text (:func:`admissions_alt`) of the daily admissions chart."""
+    alt = " ".join(parts)
     return ChartWords(
-        title="Daily hospital admissions",
+        title="When beds run short",
         caption=(
-            "New hospital admissions of residents each day, with and without each scenario's "
-            "measures. All panels share the same scales."
+            "Days on which outbreak patients need more beds than are available, with measures, "
+            "for each scenario. Numbers at the right count the days (d)."
         ),
-        alt=admissions_alt(views),
+        alt=alt,
     )
 
 
-def admissions_alt(views: Sequence[ScenarioView]) -> str:
-    """Alternate text of the daily admissions chart.
+def admissions_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text of the daily admissions chart.
 
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-
-    Returns
-    -------
-    str
-        Each scenario's peak daily admissions and date, with and without
-        measures.
+    The alternate text gives each scenario's peak daily admissions and date,
+    with and without measures.
     """
     parts = ["Daily hospital admissions, one panel per scenario, with and without measures."]
     for view in views:
@@ -200,34 +151,22 @@ def admissions_alt(views: Sequence[ScenarioView]) -> str:
                 f"{format_date(w.peak_admissions_date)} without measures)"
             )
         parts.append(text + ".")
-    return " ".join(parts)
-
-
-def outcomes_words(views: Sequence[ScenarioView]) -> ChartWords:
-    """Title, caption and alternate text (:func:`outcomes_alt`) of the total outcomes chart."""
+    alt = " ".join(parts)
     return ChartWords(
-        title="Totals over the period",
+        title="Daily hospital admissions",
         caption=(
-            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
-            "whole period, by scenario, with and without measures."
+            "New hospital admissions of residents each day, with and without each scenario's "
+            "measures. All panels share the same scales."
         ),
-        alt=outcomes_alt(views),
+        alt=alt,
     )
 
 
-def outcomes_alt(views: Sequence[ScenarioView]) -> str:
-    """Alternate text of the total outcomes chart.
+def outcomes_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text of the total outcomes chart.
 
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-
-    Returns
-    -------
-    str
-        Admissions, ICU admissions and deaths by scenario, with and without
-        measures.
+    The alternate text gives admissions, ICU admissions and deaths by
+    scenario, with and without measures.
     """
     parts = [
         "Bar chart of total admissions, ICU admissions and deaths among hospital patients "
@@ -242,33 +181,22 @@ def outcomes_alt(views: Sequence[ScenarioView]) -> str:
             f"{format_number(w.admissions_persons)}, {format_number(w.icu_admissions_persons)} "
             f"and {format_number(w.hospital_deaths_persons)} without."
         )
-    return " ".join(parts)
-
-
-def absence_words(views: Sequence[ScenarioView]) -> ChartWords:
-    """Title, caption and alternate text (:func:`absence_alt`) of the workforce absence chart."""
+    alt = " ".join(parts)
     return ChartWords(
-        title="Workforce absence",
+        title="Totals over the period",
         caption=(
-            "Share of workers off work each day with each scenario's measures: ill workers plus "
-            "workers caring for children while schools are closed."
+            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
+            "whole period, by scenario, with and without measures."
         ),
-        alt=absence_alt(views),
+        alt=alt,
     )
 
 
-def absence_alt(views: Sequence[ScenarioView]) -> str:
-    """Alternate text of the workforce absence chart.
+def absence_words(views: Sequence[ScenarioView]) -> ChartWords:
+    """Title, caption and alternate text of the workforce absence chart.
 
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-
-    Returns
-    -------
-    str
-        Each scenario's peak share of workers absent and its date.
+    The alternate text gives each scenario's peak share of workers absent
+    and its date.
     """
     parts = ["Share of workers absent each day, one line per scenario, with measures."]
     for view in views:
@@ -277,4 +205,12 @@ def absence_alt(views: Sequence[ScenarioView]) -> str:
             f"{view.name}: peak {format_percent(m.peak_absence_share)} on "
             f"{format_date(m.peak_absence_date)}."
         )
-    return " ".join(parts)
+    alt = " ".join(parts)
+    return ChartWords(
+        title="Workforce absence",
+        caption=(
+            "Share of workers off work each day with each scenario's measures: ill workers plus "
+            "workers caring for children while schools are closed."
+        ),
+        alt=alt,
+    )

@@ -10,7 +10,6 @@ import pandas as pd
 from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.ensemble_format import (
     band_columns,
-    scenario_ensemble,
     spread_cells,
     summary_row,
 )
@@ -21,12 +20,12 @@ from prepkit.report.words.formatting import (
     format_number,
     format_percent,
 )
-from prepkit.report.words.views import ScenarioView
+from prepkit.report.words.views import ScenarioView, with_ensembles
 from prepkit.uncertainty.run import UncertaintyResults
 
 
 def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> ChartWords:
-    """Title, caption and alternate text (:func:`bands_alt`) of the uncertainty-band chart.
+    """Title, caption and alternate text of the uncertainty-band chart.
 
     Parameters
     ----------
@@ -38,10 +37,30 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) 
     Returns
     -------
     ChartWords
-        The chart's words.
+        The chart's words; the alternate text gives, for each scenario, the
+        range of the ward and ICU peaks.
     """
     low_pct = round(100 * min(uncertainty.quantiles))
     high_pct = round(100 * max(uncertainty.quantiles))
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
+    parts = [
+        f"Ward and ICU demand with measures: the middle line is the median of "
+        f"{int(uncertainty.draws):,} plausible futures, the band runs from the {low_pct}th to "
+        f"the {high_pct}th percentile."
+    ]
+    for view, result in with_ensembles(views, uncertainty):
+        texts = []
+        for kind in ("ward", "icu"):
+            central, median, spread = spread_cells(
+                getattr(view.with_metrics, kind).peak_demand_beds,
+                summary_row(result, f"peak_{kind}_demand_beds"),
+                q_low, q_mid, q_high,
+            )
+            texts.append(
+                f"{BED_NOUNS[kind][1]} peak {spread} beds (median {median}, central run {central})"
+            )
+        parts.append(f"{view.name}: {'; '.join(texts)}.")
+    alt = " ".join(parts)
     return ChartWords(
         title="Bed demand across plausible futures",
         caption=(
@@ -50,86 +69,21 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) 
             f"band from the {low_pct}th to the {high_pct}th percentile. Scales differ between "
             "scenarios."
         ),
-        alt=bands_alt(views, uncertainty),
+        alt=alt,
     )
-
-
-def bands_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
-    """Alternate text of the uncertainty-band chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the range of the ward and ICU peaks.
-    """
-    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
-    low, high = round(100 * min(uncertainty.quantiles)), round(100 * max(uncertainty.quantiles))
-    parts = [
-        f"Ward and ICU demand with measures: the middle line is the median of "
-        f"{int(uncertainty.draws):,} plausible futures, the band runs from the {low}th to the "
-        f"{high}th percentile."
-    ]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        texts = []
-        for kind in ("ward", "icu"):
-            central, median, spread = spread_cells(
-                getattr(view.with_metrics, kind).peak_demand_beds,
-                summary_row(result.with_interventions, f"peak_{kind}_demand_beds"),
-                q_low, q_mid, q_high,
-            )
-            texts.append(
-                f"{BED_NOUNS[kind][1]} peak {spread} beds (median {median}, central run {central})"
-            )
-        parts.append(f"{view.name}: {'; '.join(texts)}.")
-    return " ".join(parts)
 
 
 def exceedance_words(
     views: Sequence[ScenarioView], uncertainty: UncertaintyResults
 ) -> ChartWords:
-    """Title, caption and alternate text (:func:`exceedance_alt`) of the exceedance chart."""
-    return ChartWords(
-        title="Chance that beds run short, day by day",
-        caption=(
-            "Share of plausible futures in which demand with measures is above the available "
-            "beds on each day. Above the dashed line it is more likely than not."
-        ),
-        alt=exceedance_alt(views, uncertainty),
-    )
+    """Title, caption and alternate text of the daily exceedance-probability chart.
 
-
-def exceedance_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
-    """Alternate text of the daily exceedance-probability chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the highest daily chance that ward and ICU beds
-        run short, and when.
+    The alternate text gives, for each scenario, the highest daily chance
+    that ward and ICU beds run short, and when.
     """
     parts = ["Share of plausible futures in which demand is above the available beds, each day."]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        e = result.with_interventions.exceedance
+    for view, result in with_ensembles(views, uncertainty):
+        e = result.exceedance
         pieces = []
         for kind, column in (("ward", "ward_exceedance_probability"),
                              ("ICU", "icu_exceedance_probability")):
@@ -139,45 +93,29 @@ def exceedance_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResult
             when = format_date(pd.Timestamp(peak_day).date()) if top > 0 else "no day"
             pieces.append(f"{kind} highest {format_percent(top)} on {when}")
         parts.append(f"{view.name}: " + ", ".join(pieces) + ".")
-    return " ".join(parts)
+    alt = " ".join(parts)
+    return ChartWords(
+        title="Chance that beds run short, day by day",
+        caption=(
+            "Share of plausible futures in which demand with measures is above the available "
+            "beds on each day. Above the dashed line it is more likely than not."
+        ),
+        alt=alt,
+    )
 
 
 def peak_dates_words(
     views: Sequence[ScenarioView], uncertainty: UncertaintyResults
 ) -> ChartWords:
-    """Title, caption and alternate text (:func:`peak_dates_alt`) of the peak-date chart."""
-    return ChartWords(
-        title="When ICU demand peaks",
-        caption=(
-            "Share of plausible futures whose ICU demand (with measures) peaks in each week; the "
-            "dashed line marks the median peak date."
-        ),
-        alt=peak_dates_alt(views, uncertainty),
-    )
+    """Title, caption and alternate text of the peak-date chart.
 
-
-def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) -> str:
-    """Alternate text of the peak-date chart.
-
-    Parameters
-    ----------
-    views : sequence of ScenarioView
-        Every scenario.
-    uncertainty : prepkit.uncertainty.run.UncertaintyResults
-        The ensemble.
-
-    Returns
-    -------
-    str
-        For each scenario, the range and median of the ICU peak date.
+    The alternate text gives, for each scenario, the range and median of the
+    ICU peak date.
     """
     q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     parts = ["When ICU demand peaks across the plausible futures, with measures, by week."]
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        row = result.with_interventions.peak_dates.loc["icu_demand"]
+    for view, result in with_ensembles(views, uncertainty):
+        row = result.peak_dates.loc["icu_demand"]
         low, mid, high = (as_date(row[q]) for q in (q_low, q_mid, q_high))
         if mid is None:
             parts.append(f"{view.name}: no ICU demand.")
@@ -186,11 +124,19 @@ def peak_dates_alt(views: Sequence[ScenarioView], uncertainty: UncertaintyResult
             f"{view.name}: between {format_date(low)} and {format_date(high)}, median "
             f"{format_date(mid)}."
         )
-    return " ".join(parts)
+    alt = " ".join(parts)
+    return ChartWords(
+        title="When ICU demand peaks",
+        caption=(
+            "Share of plausible futures whose ICU demand (with measures) peaks in each week; the "
+            "dashed line marks the median peak date."
+        ),
+        alt=alt,
+    )
 
 
 def tornado_words(name: str, tornado: pd.DataFrame) -> ChartWords:
-    """Title, caption and alternate text (:func:`tornado_alt`) of the sensitivity chart.
+    """Title, caption and alternate text of the sensitivity chart.
 
     Parameters
     ----------
@@ -202,38 +148,10 @@ def tornado_words(name: str, tornado: pd.DataFrame) -> ChartWords:
     Returns
     -------
     ChartWords
-        The chart's words.
+        The chart's words; the alternate text gives the inputs in order of
+        their effect on the ICU peak, with the peak at each end of their range.
     """
-    return ChartWords(
-        title="Which inputs matter most",
-        caption=(
-            f"Peak ICU demand of {name}, with measures, when one input at a time is set to the "
-            "low or the high end of its range and every other input to its most likely value "
-            "(vertical line). Inputs given per age band move together."
-        ),
-        alt=tornado_alt(name, tornado, len(tornado)),
-    )
-
-
-def tornado_alt(name: str, tornado: pd.DataFrame, top: int) -> str:
-    """Alternate text of the sensitivity (tornado) chart.
-
-    Parameters
-    ----------
-    name : str
-        Scenario name.
-    tornado : pandas.DataFrame
-        ``tornado_peak_icu`` of its ensemble with measures.
-    top : int
-        How many inputs the chart shows.
-
-    Returns
-    -------
-    str
-        The inputs in order of their effect on the ICU peak, with the peak at
-        each end of their range.
-    """
-    rows = tornado.head(top)
+    rows = tornado
     base = float(rows["peak_icu_demand_baseline_beds"].iloc[0]) if len(rows) else 0.0
     parts = [
         f"How the ICU peak of {name} ({format_number(base)} beds at the most likely values) "
@@ -246,4 +164,13 @@ def tornado_alt(name: str, tornado: pd.DataFrame, top: int) -> str:
             f"low end, {format_number(float(row['peak_icu_demand_at_high_beds']))} at the high "
             "end."
         )
-    return " ".join(parts)
+    alt = " ".join(parts)
+    return ChartWords(
+        title="Which inputs matter most",
+        caption=(
+            f"Peak ICU demand of {name}, with measures, when one input at a time is set to the "
+            "low or the high end of its range and every other input to its most likely value "
+            "(vertical line). Inputs given per age band move together."
+        ),
+        alt=alt,
+    )

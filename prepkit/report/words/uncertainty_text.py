@@ -21,7 +21,7 @@ from prepkit.report.words.ensemble_format import (
     summary_row,
 )
 from prepkit.report.words.formatting import as_date, format_date, format_number, lower_first, quoted
-from prepkit.report.words.views import ScenarioView
+from prepkit.report.words.views import ScenarioView, with_ensembles
 from prepkit.uncertainty.run import EnsembleResult, UncertaintyResults
 
 
@@ -167,11 +167,7 @@ def _ensemble_rows(
     chances = []
     rows = []
     spread = []
-    for view in views:
-        result = scenario_ensemble(uncertainty, view.name)
-        if result is None:
-            continue
-        e = result.with_interventions
+    for view, e in with_ensembles(views, uncertainty):
         chances.append(f"{quoted(view.name)} {chance_cell(any_day_chance(e, 'icu'))}")
         ward_peak_dates: Any = e.peak_dates.loc["ward_demand"]
         rows.append(

@@ -32,7 +32,7 @@ from prepkit.report.words.scenario_text import (
     ventilator_sentence,
 )
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun, column_slug
-from prepkit.uncertainty.run import UncertaintyResults
+from prepkit.uncertainty.run import EnsembleResult, UncertaintyResults
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -315,3 +315,14 @@ def measure_timing(view: ScenarioView) -> tuple[str, ...]:
     """When each of a scenario's measures was in force, one line each."""
     return tuple(span.text for span in view.measure_spans)
 
+
+def with_ensembles(
+    views: Sequence[ScenarioView], uncertainty: UncertaintyResults
+) -> list[tuple[ScenarioView, EnsembleResult]]:
+    """Each scenario that has an ensemble, with its ensemble with measures, in view order."""
+    out = []
+    for view in views:
+        item = scenario_ensemble(uncertainty, view.name)
+        if item is not None:
+            out.append((view, item.with_interventions))
+    return out
