@@ -27,11 +27,13 @@ from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.pipeline.progress import Say
 from prepkit.pipeline.summary import summary_dict
 from prepkit.plan import Plan
-from prepkit.report import context as words
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
 from prepkit.report.render import html_to_pdf, render_html, templates_dir
 from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
 from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv
+from prepkit.report.words.pack import FigureView, PackFigures, build_context
+from prepkit.report.words.uncertainty_text import ensemble_context
+from prepkit.report.words.views import ScenarioView, scenario_views
 from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.results import UncertaintyResults
 
@@ -110,15 +112,15 @@ def summary_bytes(
 
 
 def _figures(
-    views: Sequence[words.ScenarioView], charts: Sequence[Chart], fmt: Literal["svg", "png"]
-) -> words.PackFigures:
+    views: Sequence[ScenarioView], charts: Sequence[Chart], fmt: Literal["svg", "png"]
+) -> PackFigures:
     by_name = {chart.name: chart for chart in charts}
     number = 0
 
-    def view_of(chart: Chart) -> words.FigureView:
+    def view_of(chart: Chart) -> FigureView:
         nonlocal number
         number += 1
-        return words.FigureView(
+        return FigureView(
             name=chart.name, src=chart.data_uri(fmt), alt=chart.alt, caption=chart.caption,
             label=f"Figure {number}.",
         )
@@ -134,7 +136,7 @@ def _figures(
         if not chart.name.startswith(("demand-scenario-", "uncertainty-"))
     )
     uncertainty = tuple(view_of(chart) for chart in charts if chart.name.startswith("uncertainty-"))
-    return words.PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
+    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
 
 
 def render_pack(
@@ -176,12 +178,12 @@ def render_pack(
     """
     tell = say or (lambda _message: None)
     when = generated or source_date()
-    views = words.scenario_views(plan, results)
+    views = scenario_views(plan, results)
     tell("Drawing the charts")
-    ensemble_words = words.ensemble_context(plan, views, ensemble)
+    ensemble_words = ensemble_context(plan, views, ensemble)
     jobs = chart_jobs(plan, views)
-    if ensemble_words is not None:
-        jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words["focus"])
+    if ensemble is not None and ensemble_words is not None:
+        jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words.focus)
     charts = tuple(run_jobs(jobs))
     listed = [*PACK_FILES, *extra_files]
     bands_csv = uncertainty_daily_csv(ensemble)
@@ -191,7 +193,7 @@ def render_pack(
     # The PDF gets the PNG copies: weasyprint lays out a PNG about ten times
     # faster than an SVG chart, and at 200 dpi it prints sharply. The HTML
     # page gets the SVG copies, which stay sharp at any zoom.
-    base = words.build_context(
+    base = build_context(
         plan, results, figures=_figures(views, charts, "png"), version=__version__,
         generated=when, files=listed, uncertainty=ensemble, notes=notes,
     )

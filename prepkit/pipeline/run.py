@@ -39,7 +39,8 @@ from prepkit.pipeline.pack import render_pack, summary_bytes, write_pack
 from prepkit.pipeline.pack_folder import check_output_dir
 from prepkit.pipeline.progress import Say, Steps
 from prepkit.plan import Plan
-from prepkit.report import context as words
+from prepkit.report.words.leader import CAUTION_LINE, bottom_line
+from prepkit.report.words.views import scenario_views
 from prepkit.scenarios.runs import PlanResults, run_plan
 from prepkit.workbook.describe import all_of
 from prepkit.workbook.reader import read_plan_with_warnings
@@ -153,15 +154,15 @@ def check_outdir(outdir: Path, workbook: Path, *, force: bool = False) -> None:
 
 def _closing_report(plan: Plan, results: PlanResults, outdir: Path | None, json_path: Path | None
                     ) -> str:
-    views = words.scenario_views(plan, results)
+    views = scenario_views(plan, results)
     lines = []
     if outdir is not None:
         lines.append(f"Briefing pack for {plan.details.jurisdiction} written to {outdir}")
         lines.append(f"  open {outdir / 'briefing-pack.pdf'}")
     if json_path is not None:
         lines.append(f"Summary of every metric written to {json_path}")
-    lines.append("Bottom line: " + " ".join(words.bottom_line(views)))
-    lines.append(f"Caution: {words.CAUTION_LINE}")
+    lines.append("Bottom line: " + " ".join(bottom_line(views)))
+    lines.append(f"Caution: {CAUTION_LINE}")
     return "\n".join(lines)
 
 

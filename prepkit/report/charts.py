@@ -2,7 +2,7 @@
 
 Each chart is returned as a :class:`Chart`: SVG for the PDF and the HTML
 page (vector, so it prints sharply), PNG for slides, an alternate text
-written from the data (by the functions of :mod:`prepkit.report.context`)
+written from the data (by the functions of :mod:`prepkit.report.words`)
 and a caption.
 
 The charts are drawn in six modules; this one lists them as jobs, in the
@@ -24,10 +24,8 @@ order of the pack, and is the one to import:
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from typing import Any
 
 from prepkit.plan import Plan
-from prepkit.report import context as words
 from prepkit.report.charts_base import PNG_DPI, Chart, render_chart
 from prepkit.report.charts_beds import demand_chart, gap_chart
 from prepkit.report.charts_compare import absence_chart, admissions_chart, outcomes_chart
@@ -45,6 +43,8 @@ from prepkit.report.charts_windows import (
     gap_window,
 )
 from prepkit.report.style import PageSize
+from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.results import UncertaintyResults
 
 __all__ = [
     "PNG_DPI",
@@ -72,8 +72,8 @@ __all__ = [
 
 def uncertainty_chart_jobs(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
-    uncertainty: Any,
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
     *,
     focus: str,
     page_size: PageSize | None = None,
@@ -117,8 +117,8 @@ def uncertainty_chart_jobs(
 
 def draw_uncertainty_charts(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
-    uncertainty: Any,
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
     *,
     focus: str,
     page_size: PageSize | None = None,
@@ -149,7 +149,7 @@ def draw_uncertainty_charts(
 
 def chart_jobs(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     *,
     page_size: PageSize | None = None,
 ) -> list[Callable[[], Chart]]:
@@ -164,7 +164,7 @@ def chart_jobs(
     plan : Plan
         The plan.
     views : sequence of ScenarioView
-        Every scenario (:func:`prepkit.report.context.scenario_views`).
+        Every scenario (:func:`prepkit.report.words.views.scenario_views`).
     page_size : {"A4", "Letter"}, optional
         Paper size; defaults to the plan's.
 
@@ -193,7 +193,7 @@ def chart_jobs(
 
 def draw_charts(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     *,
     page_size: PageSize | None = None,
 ) -> tuple[Chart, ...]:
@@ -204,7 +204,7 @@ def draw_charts(
     plan : Plan
         The plan.
     views : sequence of ScenarioView
-        Every scenario (:func:`prepkit.report.context.scenario_views`).
+        Every scenario (:func:`prepkit.report.words.views.scenario_views`).
     page_size : {"A4", "Letter"}, optional
         Paper size; defaults to the plan's.
 

@@ -28,7 +28,6 @@ import pandas as pd
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from prepkit.report import context as words
 from prepkit.report.style import (
     OKABE_ITO,
     PageSize,
@@ -36,6 +35,8 @@ from prepkit.report.style import (
     figure_bytes,
     series_style,
 )
+from prepkit.report.words.chart_words import ChartWords
+from prepkit.report.words.formatting import format_date
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -54,6 +55,7 @@ __all__ = [
     "beds_axis",
     "chart_height",
     "date_axis",
+    "make_chart",
     "plot_series",
     "render_chart",
     "tick_number",
@@ -136,6 +138,28 @@ class Chart:
 
 
 # ---- Shared helpers ------------------------------------------------------------------------------
+
+
+def make_chart(name: str, words: ChartWords, images: tuple[bytes, bytes]) -> Chart:
+    """A drawn chart with its words.
+
+    Parameters
+    ----------
+    name : str
+        File stem (:attr:`Chart.name`).
+    words : ChartWords
+        Its title, caption and alternate text.
+    images : tuple of bytes
+        SVG and PNG bytes (:func:`render_chart`).
+
+    Returns
+    -------
+    Chart
+        The chart.
+    """
+    svg, png = images
+    return Chart(name=name, title=words.title, caption=words.caption, alt=words.alt, svg=svg,
+                 png=png)
 
 
 def render_chart(
@@ -239,7 +263,7 @@ def date_axis(ax: Axes, window: tuple[dt.date, dt.date]) -> None:
     major = [m for m in months if (m.month - 1) % step == 0] or months[:1]
     labels = []
     for i, day in enumerate(major):
-        name = words.format_date(day, year=False).split(" ", 1)[1]
+        name = format_date(day, year=False).split(" ", 1)[1]
         labels.append(f"{name}\n{day.year}" if i == 0 or day.month == 1 else name)
     ax.xaxis.set_major_locator(matplotlib.ticker.FixedLocator(mdates.date2num(major)))
     ax.xaxis.set_major_formatter(matplotlib.ticker.FixedFormatter(labels))

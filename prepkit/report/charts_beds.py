@@ -8,11 +8,11 @@ from collections.abc import Sequence
 import matplotlib.dates as mdates
 import numpy as np
 import pandas as pd
+from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 
-from prepkit.plan import Plan
-from prepkit.report import context as words
+from prepkit.plan import Observation, Plan
 from prepkit.report.charts_base import (
     SHORT_FILL,
     STILL_SHORT_FILL,
@@ -20,6 +20,7 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
+    make_chart,
     plot_series,
     render_chart,
     window_slice,
@@ -27,6 +28,9 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
+from prepkit.report.words.chart_words import demand_words, gap_words
+from prepkit.report.words.formatting import periods_over
+from prepkit.report.words.views import ScenarioView
 
 __all__ = ["demand_chart", "gap_chart"]
 
@@ -35,7 +39,7 @@ __all__ = ["demand_chart", "gap_chart"]
 
 def demand_chart(
     plan: Plan,
-    view: words.ScenarioView,
+    view: ScenarioView,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -65,55 +69,12 @@ def demand_chart(
 
     def draw(fig: Figure) -> None:
         axes = fig.subplots(2, 1, sharex=True)
-        x = with_daily.index.to_numpy()
         for ax, kind, title in (
             (axes[0], "ward", "Ward beds"),
             (axes[1], "icu", "Intensive care (ICU) beds"),
         ):
-            demand = with_daily[f"{kind}_demand_beds"].to_numpy(dtype=np.float64)
-            available = with_daily[f"{kind}_available_beds"].to_numpy(dtype=np.float64)
-            surge = with_daily[f"{kind}_available_with_surge_beds"].to_numpy(dtype=np.float64)
-            if np.any(demand > available):
-                ax.fill_between(
-                    x, 0, 1, where=demand > available, transform=ax.get_xaxis_transform(),
-                    color=SHORT_FILL, alpha=0.7, linewidth=0, step="mid",
-                    label="Days beds run short (with measures)",
-                )
-            plot_series(
-                ax, x, demand, 0, "Demand with measures" if has_measures else "Demand",
-                linewidth=2.0, zorder=3,
-            )
-            if has_measures:
-                plot_series(
-                    ax, x, without_daily[f"{kind}_demand_beds"].to_numpy(dtype=np.float64), 1,
-                    "Demand without measures",
-                )
-            ax.plot(x, available, color=CSS_COLORS["ink"], linewidth=1.2, marker="none",
-                    linestyle="solid", label="Available beds")
-            if np.any(surge > available + 1e-9):
-                opened = np.where(surge > available + 1e-9, surge, np.nan)
-                first_open = int(np.argmax(surge > available + 1e-9))
-                if first_open > 0:
-                    opened[first_open - 1] = available[first_open - 1]
-                ax.plot(
-                    x, opened, color=CSS_COLORS["muted"], linewidth=1.4, marker="none",
-                    linestyle=(0, (1.2, 1.6)), label="Available beds with surge beds open",
-                )
-            points = [
-                (o.date, o.ward_census if kind == "ward" else o.icu_census) for o in observed
-            ]
-            points = [(d, v) for d, v in points if v is not None]
-            if points:
-                ax.plot(
-                    [np.datetime64(d) for d, _ in points], [v for _, v in points],
-                    linestyle="none", marker="o", markersize=3.5, color=CSS_COLORS["ink"],
-                    markerfacecolor="white", label="Observed patients",
-                )
-            ax.set_title(title, loc="left", fontweight="bold")
-            ax.set_ylabel("Beds")
-            beds_axis(ax)
-            fit_limits([ax], "y")
-            date_axis(ax, window)
+            _demand_panel(ax, kind, title, with_daily, without_daily, observed, window,
+                          has_measures=has_measures)
         handles, labels = axes[0].get_legend_handles_labels()
         more_h, more_l = axes[1].get_legend_handles_labels()
         for h, label in zip(more_h, more_l, strict=True):
@@ -127,22 +88,68 @@ def demand_chart(
         )
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, width * 0.6)))
-    ward = view.with_metrics.ward
-    caption = (
-        f"Beds needed by outbreak patients in the {view.name} scenario. Shaded: days on which "
-        f"demand with measures is above the available beds (beds not needed by other "
-        f"patients; {words.format_number(ward.available_beds)} ward and "
-        f"{words.format_number(view.with_metrics.icu.available_beds)} ICU beds)."
+    images = render_chart(draw, size=(width, chart_height(page_size, width * 0.6)))
+    words = demand_words(view, observed_days=len(observed))
+    return make_chart(f"demand-scenario-{view.number}", words, images)
+
+
+def _demand_panel(
+    ax: Axes,
+    kind: str,
+    title: str,
+    with_daily: pd.DataFrame,
+    without_daily: pd.DataFrame,
+    observed: Sequence[Observation],
+    window: tuple[dt.date, dt.date],
+    *,
+    has_measures: bool,
+) -> None:
+    """One panel of :func:`demand_chart`: demand of one bed type against its beds."""
+    x = with_daily.index.to_numpy()
+    demand = with_daily[f"{kind}_demand_beds"].to_numpy(dtype=np.float64)
+    available = with_daily[f"{kind}_available_beds"].to_numpy(dtype=np.float64)
+    surge = with_daily[f"{kind}_available_with_surge_beds"].to_numpy(dtype=np.float64)
+    if np.any(demand > available):
+        ax.fill_between(
+            x, 0, 1, where=demand > available, transform=ax.get_xaxis_transform(),
+            color=SHORT_FILL, alpha=0.7, linewidth=0, step="mid",
+            label="Days beds run short (with measures)",
+        )
+    plot_series(
+        ax, x, demand, 0, "Demand with measures" if has_measures else "Demand",
+        linewidth=2.0, zorder=3,
     )
-    return Chart(
-        name=f"demand-scenario-{view.number}",
-        title=f"Bed demand: {view.name}",
-        caption=caption,
-        alt=words.demand_alt(view, observed_days=len(observed)),
-        svg=svg,
-        png=png,
-    )
+    if has_measures:
+        plot_series(
+            ax, x, without_daily[f"{kind}_demand_beds"].to_numpy(dtype=np.float64), 1,
+            "Demand without measures",
+        )
+    ax.plot(x, available, color=CSS_COLORS["ink"], linewidth=1.2, marker="none",
+            linestyle="solid", label="Available beds")
+    if np.any(surge > available + 1e-9):
+        opened = np.where(surge > available + 1e-9, surge, np.nan)
+        first_open = int(np.argmax(surge > available + 1e-9))
+        if first_open > 0:
+            opened[first_open - 1] = available[first_open - 1]
+        ax.plot(
+            x, opened, color=CSS_COLORS["muted"], linewidth=1.4, marker="none",
+            linestyle=(0, (1.2, 1.6)), label="Available beds with surge beds open",
+        )
+    census = [
+        (o.date, o.ward_census if kind == "ward" else o.icu_census) for o in observed
+    ]
+    points = [(d, v) for d, v in census if v is not None]
+    if points:
+        ax.plot(
+            [np.datetime64(d) for d, _ in points], [v for _, v in points],
+            linestyle="none", marker="o", markersize=3.5, color=CSS_COLORS["ink"],
+            markerfacecolor="white", label="Observed patients",
+        )
+    ax.set_title(title, loc="left", fontweight="bold")
+    ax.set_ylabel("Beds")
+    beds_axis(ax)
+    fit_limits([ax], "y")
+    date_axis(ax, window)
 
 
 _LEGEND_RANK = (
@@ -168,7 +175,7 @@ def _legend_order(labels: Sequence[str]) -> list[int]:
 
 
 def gap_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -190,27 +197,12 @@ def gap_chart(
         still short once surge beds are open. The number of days is written
         at the right of each strip.
     """
-    rows: list[tuple[str, str, pd.Series, pd.Series, pd.Series, int, int]] = []
-    for view in views:
-        daily = window_slice(view.item.with_interventions.daily, window)
-        m = view.with_metrics
-        for kind, bed in (("ward", m.ward), ("icu", m.icu)):
-            rows.append(
-                (
-                    view.name,
-                    "Ward" if kind == "ward" else "ICU",
-                    daily[f"{kind}_demand_beds"],
-                    daily[f"{kind}_available_beds"],
-                    daily[f"{kind}_available_with_surge_beds"],
-                    bed.days_over_capacity_days,
-                    bed.days_over_capacity_with_surge_days,
-                )
-            )
+    rows = _gap_rows(views, window)
 
     def spans(demand: pd.Series, available: pd.Series) -> list[tuple[float, float]]:
         return [
             (float(mdates.date2num(p.start)) - 0.5, float(p.days))
-            for p in words.periods_over(demand, available)
+            for p in periods_over(demand, available)
         ]
 
     def draw(fig: Figure) -> None:
@@ -252,17 +244,33 @@ def gap_chart(
 
     width, _ = figure_size(page_size)
     height = min(7.5, 0.9 + 0.34 * len(rows) + 0.22 * len(views))
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="capacity-gap-timeline",
-        title="When beds run short",
-        caption=(
-            "Days on which outbreak patients need more beds than are available, with measures, "
-            "for each scenario. Numbers at the right count the days (d)."
-        ),
-        alt=words.gap_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("capacity-gap-timeline", gap_words(views), images)
 
 
+_GapRow = tuple[str, str, pd.Series, pd.Series, pd.Series, int, int]
+
+
+def _gap_rows(views: Sequence[ScenarioView], window: tuple[dt.date, dt.date]) -> list[_GapRow]:
+    """The strips of :func:`gap_chart`, one per scenario and bed type.
+
+    Each is (scenario, bed type, demand, available beds, beds with surge,
+    days short, days short with surge).
+    """
+    rows: list[_GapRow] = []
+    for view in views:
+        daily = window_slice(view.item.with_interventions.daily, window)
+        m = view.with_metrics
+        for kind, bed in (("ward", m.ward), ("icu", m.icu)):
+            rows.append(
+                (
+                    view.name,
+                    "Ward" if kind == "ward" else "ICU",
+                    daily[f"{kind}_demand_beds"],
+                    daily[f"{kind}_available_beds"],
+                    daily[f"{kind}_available_with_surge_beds"],
+                    bed.days_over_capacity_days,
+                    bed.days_over_capacity_with_surge_days,
+                )
+            )
+    return rows

@@ -12,13 +12,13 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from prepkit.plan import Plan
-from prepkit.report import context as words
 from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
     beds_axis,
     chart_height,
     date_axis,
+    make_chart,
     plot_series,
     render_chart,
     tick_number,
@@ -27,6 +27,9 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size
+from prepkit.report.words.chart_words import absence_words, admissions_words, outcomes_words
+from prepkit.report.words.formatting import format_number
+from prepkit.report.words.views import ScenarioView
 
 __all__ = ["absence_chart", "admissions_chart", "outcomes_chart"]
 
@@ -40,7 +43,7 @@ def _panel_grid(count: int) -> tuple[int, int]:
 
 def admissions_chart(
     plan: Plan,
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -105,24 +108,14 @@ def admissions_chart(
 
     width, _ = figure_size(page_size)
     height = 0.8 + 1.8 * rows
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="daily-admissions",
-        title="Daily hospital admissions",
-        caption=(
-            "New hospital admissions of residents each day, with and without each scenario's "
-            "measures. All panels share the same scales."
-        ),
-        alt=words.admissions_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("daily-admissions", admissions_words(views), images)
 
 
 # ---- Total outcomes ------------------------------------------------------------------------------
 
 
-def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> Chart:
+def outcomes_chart(views: Sequence[ScenarioView], page_size: PageSize) -> Chart:
     """Total admissions, ICU admissions and deaths by scenario, with and without measures.
 
     Parameters
@@ -158,10 +151,10 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
             ax.barh(y + 0.2, without_values, height=0.38, color="white",
                     edgecolor=CSS_COLORS["ink"], linewidth=0.8, label="Without measures")
             for yy, value in zip(y - 0.2, with_values, strict=True):
-                ax.text(value + 0.02 * top, yy, words.format_number(value), va="center",
+                ax.text(value + 0.02 * top, yy, format_number(value), va="center",
                         fontsize=7.5)
             for yy, value in zip(y + 0.2, without_values, strict=True):
-                ax.text(value + 0.02 * top, yy, words.format_number(value), va="center",
+                ax.text(value + 0.02 * top, yy, format_number(value), va="center",
                         fontsize=7.5, color=CSS_COLORS["muted"])
             ax.set_xlim(0, top * 1.35)
             ax.set_title(title, loc="left", fontsize=9, fontweight="bold")
@@ -177,25 +170,15 @@ def outcomes_chart(views: Sequence[words.ScenarioView], page_size: PageSize) -> 
 
     width, _ = figure_size(page_size)
     height = 1.2 + 0.55 * len(views)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, max(2.4, height))))
-    return Chart(
-        name="total-outcomes",
-        title="Totals over the period",
-        caption=(
-            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
-            "whole period, by scenario, with and without measures."
-        ),
-        alt=words.outcomes_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, max(2.4, height))))
+    return make_chart("total-outcomes", outcomes_words(views), images)
 
 
 # ---- Workforce absence ---------------------------------------------------------------------------
 
 
 def absence_chart(
-    views: Sequence[words.ScenarioView],
+    views: Sequence[ScenarioView],
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -231,17 +214,7 @@ def absence_chart(
 
     width, _ = figure_size(page_size)
     height = width * 0.42 + 0.25 * math.ceil(len(views) / 2)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="workforce-absence",
-        title="Workforce absence",
-        caption=(
-            "Share of workers off work each day with each scenario's measures: ill workers plus "
-            "workers caring for children while schools are closed."
-        ),
-        alt=words.absence_alt(views),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("workforce-absence", absence_words(views), images)
 
 

@@ -5,7 +5,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 from collections.abc import Sequence
-from typing import Any
 
 import matplotlib
 import matplotlib.dates as mdates
@@ -13,13 +12,13 @@ import numpy as np
 import pandas as pd
 from matplotlib.figure import Figure
 
-from prepkit.report import context as words
 from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
     beds_axis,
     chart_height,
     date_axis,
+    make_chart,
     plot_series,
     render_chart,
     window_slice,
@@ -27,6 +26,17 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.charts_limits import fit_limits
 from prepkit.report.style import CSS_COLORS, PageSize, figure_size, series_style
+from prepkit.report.words.chart_words_uncertainty import (
+    bands_words,
+    exceedance_words,
+    peak_dates_words,
+    tornado_words,
+)
+from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
+from prepkit.report.words.formatting import as_date, format_number
+from prepkit.report.words.views import ScenarioView, with_ensembles
+from prepkit.uncertainty.results import UncertaintyResults
+from prepkit.uncertainty.run import EnsembleResult
 
 __all__ = [
     "BAR_DAYS",
@@ -43,30 +53,15 @@ __all__ = [
 BAND_FILL = "#A6D2F0"
 
 
-def ensemble_of(uncertainty: Any, name: str) -> Any | None:
+def ensemble_of(uncertainty: UncertaintyResults, name: str) -> EnsembleResult | None:
     """The ensemble of a scenario with its measures, or None when it has none."""
-    item = words.scenario_ensemble(uncertainty, name)
+    item = scenario_ensemble(uncertainty, name)
     return None if item is None else item.with_interventions
 
 
-def _with_ensembles(
-    views: Sequence[words.ScenarioView], uncertainty: Any
-) -> list[tuple[words.ScenarioView, Any]]:
-    out = []
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is not None:
-            out.append((view, result))
-    return out
-
-
-def _q_columns(uncertainty: Any) -> tuple[str, str, str]:
-    return words.band_columns(uncertainty.quantiles)
-
-
 def band_chart(
-    views: Sequence[words.ScenarioView],
-    uncertainty: Any,
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -89,10 +84,10 @@ def band_chart(
         Median line and low-to-high percentile band of the draws (with
         measures), against the available beds.
     """
-    q_low, q_mid, q_high = _q_columns(uncertainty)
+    q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     low_pct = round(100 * min(uncertainty.quantiles))
     high_pct = round(100 * max(uncertainty.quantiles))
-    shown = _with_ensembles(views, uncertainty)
+    shown = with_ensembles(views, uncertainty)
 
     def draw(fig: Figure) -> None:
         axes = np.atleast_2d(fig.subplots(len(shown), 2, sharex=True, squeeze=False))
@@ -122,25 +117,13 @@ def band_chart(
 
     width, _ = figure_size(page_size)
     height = min(8.6, 0.8 + 1.75 * len(shown))
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-bands",
-        title="Bed demand across plausible futures",
-        caption=(
-            f"Ward (left) and ICU (right) demand with measures across "
-            f"{int(uncertainty.draws):,} plausible futures per scenario: median line and the "
-            f"band from the {low_pct}th to the {high_pct}th percentile. Scales differ between "
-            "scenarios."
-        ),
-        alt=words.bands_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-bands", bands_words(views, uncertainty), images)
 
 
 def exceedance_chart(
-    views: Sequence[words.ScenarioView],
-    uncertainty: Any,
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -189,25 +172,15 @@ def exceedance_chart(
 
     width, _ = figure_size(page_size)
     height = width * 0.36 + 0.25 * math.ceil(len(views) / 2)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-exceedance",
-        title="Chance that beds run short, day by day",
-        caption=(
-            "Share of plausible futures in which demand with measures is above the available "
-            "beds on each day. Above the dashed line it is more likely than not."
-        ),
-        alt=words.exceedance_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-exceedance", exceedance_words(views, uncertainty), images)
 
 
 #: Width of a week's bar on the peak-date chart [days]; a gap of a day parts the weeks.
 BAR_DAYS = 6.0
 
 
-def weekly_peak_shares(result: Any) -> pd.Series:
+def weekly_peak_shares(result: EnsembleResult) -> pd.Series:
     """Share of futures whose ICU demand peaks in each week, for the weeks holding a peak.
 
     Parameters
@@ -230,8 +203,8 @@ def weekly_peak_shares(result: Any) -> pd.Series:
 
 
 def peak_date_chart(
-    views: Sequence[words.ScenarioView],
-    uncertainty: Any,
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
     window: tuple[dt.date, dt.date],
     page_size: PageSize,
 ) -> Chart:
@@ -254,8 +227,8 @@ def peak_date_chart(
         One strip per scenario: share of futures whose ICU peak falls in
         each week, and the median peak date.
     """
-    shown = _with_ensembles(views, uncertainty)
-    _, q_mid, _ = _q_columns(uncertainty)
+    shown = with_ensembles(views, uncertainty)
+    _, q_mid, _ = band_columns(uncertainty.quantiles)
 
     def draw(fig: Figure) -> None:
         axes = np.atleast_1d(fig.subplots(len(shown), 1, sharex=True, squeeze=False)).ravel()
@@ -266,7 +239,7 @@ def peak_date_chart(
                 ax.bar(weekly.index.to_numpy(), 100.0 * weekly.to_numpy(), width=BAR_DAYS,
                        align="edge", color=style.color, edgecolor=CSS_COLORS["ink"],
                        linewidth=0.4)
-                median = words.as_date(result.peak_dates.loc["icu_demand", q_mid])
+                median = as_date(result.peak_dates.loc["icu_demand", q_mid])
                 if median is not None:
                     ax.axvline(mdates.date2num(median), color=CSS_COLORS["ink"], linewidth=1.2,
                                linestyle=(0, (4, 2)))
@@ -277,25 +250,17 @@ def peak_date_chart(
             date_axis(ax, window)
 
     width, _ = figure_size(page_size)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, 0.6 + 0.8 * len(shown))))
-    return Chart(
-        name="uncertainty-peak-dates",
-        title="When ICU demand peaks",
-        caption=(
-            "Share of plausible futures whose ICU demand (with measures) peaks in each week; the "
-            "dashed line marks the median peak date."
-        ),
-        alt=words.peak_dates_alt(views, uncertainty),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, 0.6 + 0.8 * len(shown))))
+    return make_chart("uncertainty-peak-dates", peak_dates_words(views, uncertainty), images)
 
 
 #: Inputs shown on the sensitivity chart.
 TORNADO_TOP = 8
 
 
-def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNADO_TOP) -> Chart:
+def tornado_chart(
+    name: str, result: EnsembleResult, page_size: PageSize, top: int = TORNADO_TOP
+) -> Chart:
     """How the ICU peak of one scenario moves with each uncertain input (tornado chart).
 
     Parameters
@@ -333,10 +298,10 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
                 label="Input at the high end")
         ax.axvline(base, color=CSS_COLORS["ink"], linewidth=1.0)
         for yy, value in zip(y - 0.19, low, strict=True):
-            ax.text(value, yy, f" {words.format_number(value)} ", va="center", fontsize=7.5,
+            ax.text(value, yy, f" {format_number(value)} ", va="center", fontsize=7.5,
                     ha="left" if value >= base else "right")
         for yy, value in zip(y + 0.19, high, strict=True):
-            ax.text(value, yy, f" {words.format_number(value)} ", va="center", fontsize=7.5,
+            ax.text(value, yy, f" {format_number(value)} ", va="center", fontsize=7.5,
                     ha="left" if value >= base else "right")
         ax.set_yticks(y, [wrap_label(str(label), 30) for label in rows["label"]], fontsize=8)
         ax.invert_yaxis()
@@ -349,18 +314,7 @@ def tornado_chart(name: str, result: Any, page_size: PageSize, top: int = TORNAD
 
     width, _ = figure_size(page_size)
     height = 1.0 + 0.36 * max(len(rows), 1)
-    svg, png = render_chart(draw, size=(width, chart_height(page_size, height)))
-    return Chart(
-        name="uncertainty-tornado",
-        title="Which inputs matter most",
-        caption=(
-            f"Peak ICU demand of {name}, with measures, when one input at a time is set to the "
-            "low or the high end of its range and every other input to its most likely value "
-            "(vertical line). Inputs given per age band move together."
-        ),
-        alt=words.tornado_alt(name, rows, len(rows)),
-        svg=svg,
-        png=png,
-    )
+    images = render_chart(draw, size=(width, chart_height(page_size, height)))
+    return make_chart("uncertainty-tornado", tornado_words(name, rows), images)
 
 

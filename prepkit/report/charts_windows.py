@@ -12,18 +12,19 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Sequence
-from typing import Any
 
 import numpy as np
 
-from prepkit.report import context as words
 from prepkit.report.charts_base import BUSY_SHARE, TAIL_DAYS, as_day
-from prepkit.report.charts_uncertainty import BAR_DAYS, ensemble_of, weekly_peak_shares
+from prepkit.report.charts_uncertainty import BAR_DAYS, weekly_peak_shares
+from prepkit.report.words.ensemble_format import band_columns
+from prepkit.report.words.views import ScenarioView, with_ensembles
+from prepkit.uncertainty.results import UncertaintyResults
 
 __all__ = ["chart_window", "ensemble_window", "exceedance_window", "gap_window"]
 
 
-def chart_window(views: Sequence[words.ScenarioView]) -> tuple[dt.date, dt.date]:
+def chart_window(views: Sequence[ScenarioView]) -> tuple[dt.date, dt.date]:
     """Dates shown on the time axes: day 0 to four weeks after demand ends.
 
     Charts comparing scenarios share the window of all of them; a
@@ -76,7 +77,7 @@ def chart_window(views: Sequence[words.ScenarioView]) -> tuple[dt.date, dt.date]
 
 
 def gap_window(
-    views: Sequence[words.ScenarioView], window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView], window: tuple[dt.date, dt.date]
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the capacity-gap timeline: day 0 to four weeks after the last gap.
 
@@ -99,7 +100,9 @@ def gap_window(
 
 
 def ensemble_window(
-    views: Sequence[words.ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
+    window: tuple[dt.date, dt.date],
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the band and peak-date charts: wide enough for the late futures.
 
@@ -123,11 +126,10 @@ def ensemble_window(
     tuple of datetime.date
         First and last day shown; never shorter than ``window``.
     """
-    _, _, q_high = words.band_columns(uncertainty.quantiles)
+    _, _, q_high = band_columns(uncertainty.quantiles)
     last = window[1]
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is None or result.daily.empty:
+    for _, result in with_ensembles(views, uncertainty):
+        if result.daily.empty:
             continue
         daily = result.daily
         end_of_run = as_day(daily.index[-1])
@@ -146,7 +148,9 @@ def ensemble_window(
 
 
 def exceedance_window(
-    views: Sequence[words.ScenarioView], uncertainty: Any, window: tuple[dt.date, dt.date]
+    views: Sequence[ScenarioView],
+    uncertainty: UncertaintyResults,
+    window: tuple[dt.date, dt.date],
 ) -> tuple[dt.date, dt.date]:
     """Dates shown on the exceedance chart: day 0 to four weeks after the last chance of a gap.
 
@@ -166,10 +170,7 @@ def exceedance_window(
         First and last day shown, inside ``window``.
     """
     last: dt.date | None = None
-    for view in views:
-        result = ensemble_of(uncertainty, view.name)
-        if result is None:
-            continue
+    for _, result in with_ensembles(views, uncertainty):
         frame = result.exceedance
         busy = frame[(frame[["ward_exceedance_probability", "icu_exceedance_probability"]]
                       .max(axis=1) > 0.005)]

@@ -47,7 +47,6 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from prepkit.base.files import normalise_xlsx
 from prepkit.plan import LEVELS, Plan
-from prepkit.report import context as words
 from prepkit.report import results_workbook_columns_scenarios as cols
 from prepkit.report.results_workbook_charts import charts_sheet, daily_sheet
 from prepkit.report.results_workbook_columns import DAYS, GUIDE, KEYS, GuideRow, SheetColumns
@@ -62,6 +61,9 @@ from prepkit.report.results_workbook_layout import (
 )
 from prepkit.report.results_workbook_uncertainty import SheetWriter, uncertainty_sheets
 from prepkit.report.safety import write_text_cell, write_text_row
+from prepkit.report.words.assumptions import shown_value
+from prepkit.report.words.formatting import LEVEL_WORDS
+from prepkit.report.words.leader import CAUTION_LINE, DECISIONS_LINE
 from prepkit.scenarios.runs import PlanResults, ScenarioResults, ScenarioRun
 
 __all__ = [
@@ -199,7 +201,7 @@ def _transmissibility(ws: Worksheet, page: PageInfo, results: PlanResults) -> li
             continue
         row += 1
         given_as, given_format = cols.MEASURE_FORMATS.get(t.measure, (t.measure, "0.00"))
-        write_text_cell(ws, row, 1, words.LEVEL_WORDS[level])
+        write_text_cell(ws, row, 1, LEVEL_WORDS[level])
         write_text_cell(ws, row, 2, given_as)
         put(ws, row, 3, float(t.given_value), given_format)
         for col, c in enumerate(columns.columns[3:], start=4):
@@ -216,7 +218,7 @@ def _inputs(ws: Worksheet, page: PageInfo, plan: Plan) -> list[GuideRow]:
     header_row(ws, 1, columns)
     for row, record in enumerate(plan.source.inputs, start=2):
         write_text_row(ws, row, [record.sheet, record.cell, record.label,
-                                 words.shown_value(record), record.unit,
+                                 shown_value(record), record.unit,
                                  "yes" if record.defaulted else ""])
     finish_sheet(ws, page, subject="Every input of the planning workbook", title_rows=(1, 1),
                  last_row=len(plan.source.inputs) + 1, last_col=len(columns.columns),
@@ -246,7 +248,7 @@ def _about(ws: Worksheet, page: PageInfo, plan: Plan, generated: dt.datetime,
         ("Planning workbook", plan.source.path.replace("\\", "/").rsplit("/", 1)[-1]),
         ("Its SHA-256", plan.source.sha256),
         ("Random seed", str(d.seed)),
-        ("Caution", f"{words.CAUTION_LINE} {words.DECISIONS_LINE}"),
+        ("Caution", f"{CAUTION_LINE} {DECISIONS_LINE}"),
         ("Numbers", "Beds, people and bed-days are shown whole, on the Daily sheets with one "
                     "decimal; shares as percentages. The cells hold the model's figures "
                     "unrounded."),

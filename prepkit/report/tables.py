@@ -21,13 +21,14 @@ import io
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Literal
 
 import numpy as np
 import pandas as pd
 
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
+from prepkit.uncertainty.results import UncertaintyResults
 
 __all__ = [
     "DAILY_COLUMNS",
@@ -211,7 +212,7 @@ def columns_csv() -> bytes:
     return _csv_bytes(["column", "unit", "meaning"], rows)
 
 
-def uncertainty_daily_csv(uncertainty: Any) -> bytes | None:
+def uncertainty_daily_csv(uncertainty: UncertaintyResults | None) -> bytes | None:
     """``uncertainty-daily.csv``: daily quantile bands and chances of running short.
 
     Parameters
@@ -226,15 +227,16 @@ def uncertainty_daily_csv(uncertainty: Any) -> bytes | None:
         probability columns named as in the ensemble's tables, units in the
         names), or None when there is no ensemble.
     """
-    if uncertainty is None or not getattr(uncertainty, "scenarios", ()):
+    if uncertainty is None or not uncertainty.scenarios:
         return None
+    scenarios = uncertainty.scenarios
     first = uncertainty.scenarios[0].with_interventions
     band_names = [str(c) for c in first.daily.columns]
     chance_names = [str(c) for c in first.exceedance.columns]
     header = ["scenario", "variant", "date", *band_names, *chance_names]
 
     def rows() -> Iterable[list[str]]:
-        for item in uncertainty.scenarios:
+        for item in scenarios:
             scenario = safe_csv_text(item.scenario)
             for variant in ("with", "without"):
                 result = item.variant(variant)

@@ -206,7 +206,7 @@ def mode_values(fields: Sequence[FieldRange], count: int) -> dict[str, NDArray[n
 
 
 def values_from(got: Mapping[str, NDArray[np.float64]], count: int) -> DrawValues:
-    """Draws from values by field key (:func:`prepkit.uncertainty.run.plan_dimensions`).
+    """Draws from values by field key (:func:`prepkit.uncertainty.fields.plan_dimensions`).
 
     A drawn efficacy against admission below the drawn efficacy against
     infection is raised to it; without a vaccination both are 0.

@@ -10,8 +10,9 @@ import pandas as pd
 from conftest import small_plan
 from numpy.testing import assert_allclose
 
-from prepkit.metrics.capacity import ventilator_metrics
-from prepkit.report import context as words
+from prepkit.metrics.core import ventilator_metrics
+from prepkit.report.words.formatting import format_days
+from prepkit.report.words.scenario_text import ventilator_sentence
 from prepkit.scenarios.runs import run_scenario
 
 
@@ -46,7 +47,7 @@ def test_ventilator_days_follow_icu_bed_days() -> None:
                     0.4 * run.metrics.icu.peak_demand_beds, rtol=1e-12)
     over = int(np.sum(daily["ventilator_demand_devices"].to_numpy() > 3.0))
     assert run.metrics.ventilators.days_short_days == over
-    sentence = words.ventilator_sentence(run.metrics.ventilators)
+    sentence = ventilator_sentence(run.metrics.ventilators)
     if over:
-        assert sentence.startswith(f"Ventilators run short on {words.format_days(over)}")
+        assert sentence.startswith(f"Ventilators run short on {format_days(over)}")
     assert "3 available" in sentence

@@ -41,9 +41,20 @@ from prepkit.pipeline import demo, progress
 from prepkit.pipeline import jobs as pipeline_jobs
 from prepkit.pipeline import pack as pipeline_pack
 from prepkit.pipeline import run as pipeline
-from prepkit.pipeline.manifest import MANIFEST_NAME, read_manifest, verify_pack
-from prepkit.pipeline.outputs import PAUSE_ENV
-from prepkit.report import context as words
+from prepkit.pipeline.manifest import read_manifest, verify_pack
+from prepkit.pipeline.outputs import MANIFEST_NAME, PAUSE_ENV
+from prepkit.report.words.assumptions import assumption_groups
+from prepkit.report.words.comparison import comparison_tables, transmissibility_rows
+from prepkit.report.words.leader import (
+    CAUTION_LINE,
+    DECISIONS_LINE,
+    bottom_line,
+    certainty_sentences,
+    headline_measures_text,
+    measures_headline,
+)
+from prepkit.report.words.limitations import limitations
+from prepkit.report.words.views import ScenarioView, scenario_views
 from prepkit.scenarios.runs import run_plan
 from prepkit.workbook.reader import read_plan
 from prepkit.workbook.template import write_workbook
@@ -79,8 +90,8 @@ class Rendered:
         return flat("\n".join(self.pages))
 
     @property
-    def views(self) -> tuple[words.ScenarioView, ...]:
-        return words.scenario_views(self.plan, self.results)
+    def views(self) -> tuple[ScenarioView, ...]:
+        return scenario_views(self.plan, self.results)
 
 
 def _rendered(workbook: Path, outdir: Path, report: str, messages: list[str], before: str
@@ -185,7 +196,7 @@ def test_run_writes_the_summary_json_asked_for(tamsett: Rendered) -> None:
 
 def test_closing_report_and_progress_messages(vellmora: Rendered, tamsett: Rendered) -> None:
     assert str(vellmora.outdir) in vellmora.report
-    assert "Bottom line: " + " ".join(words.bottom_line(vellmora.views)) in vellmora.report
+    assert "Bottom line: " + " ".join(bottom_line(vellmora.views)) in vellmora.report
     assert any("Drawing the charts" in m for m in vellmora.messages)
     assert tamsett.messages == []  # quiet, as the command line runs under CI
 
@@ -199,15 +210,15 @@ def test_leader_page_is_one_page_with_the_bottom_line_first(pack: Rendered) -> N
     leader = flat(pack.pages[page])
     views = pack.views
     first = leader.index("BOTTOM LINE")
-    for sentence in words.bottom_line(views):
+    for sentence in bottom_line(views):
         assert flat(sentence) in leader
         assert leader.index(flat(sentence)) > first
     for view in views:
         assert flat(f"{view.name}. {view.brief}") in leader
-    headline = words.measures_headline(views)
+    headline = measures_headline(views)
     assert headline is not None
-    assert flat(words.headline_measures_text(headline)) in leader
-    assert "Read with care" in leader and flat(words.CAUTION_LINE) in leader
+    assert flat(headline_measures_text(headline)) in leader
+    assert "Read with care" in leader and flat(CAUTION_LINE) in leader
 
 
 def test_leader_certainty_comes_from_the_ensemble(vellmora: Rendered, tamsett: Rendered) -> None:
@@ -215,7 +226,7 @@ def test_leader_certainty_comes_from_the_ensemble(vellmora: Rendered, tamsett: R
     assert f"run {ENSEMBLE_DRAWS:,} times" in leader
     assert "plausible futures of" in leader
     town = flat(tamsett.pages[1])
-    assert flat(" ".join(words.certainty_sentences(
+    assert flat(" ".join(certainty_sentences(
         dataclasses.replace(tamsett.plan, details=dataclasses.replace(tamsett.plan.details,
                                                                      draws=0)),
         tamsett.views,
@@ -224,7 +235,7 @@ def test_leader_certainty_comes_from_the_ensemble(vellmora: Rendered, tamsett: R
 
 def test_comparison_table_matches_the_engine(pack: Rendered) -> None:
     text = pack.text
-    for table in words.comparison_tables(pack.views, pack.plan.details.day0.year):
+    for table in comparison_tables(pack.views, pack.plan.details.day0.year):
         for row in table.rows:
             if row.group:
                 assert flat(row.label) in text
@@ -244,7 +255,7 @@ def test_scenario_pages_say_what_the_metrics_say(pack: Rendered) -> None:
 def test_every_input_appears_with_its_cell(pack: Rendered) -> None:
     start = next(i for i, t in enumerate(pack.pages) if "Appendix B. Every input" in t)
     appendix = flat("\n".join(pack.pages[start:]))
-    groups = words.assumption_groups(pack.plan.source.inputs)
+    groups = assumption_groups(pack.plan.source.inputs)
     assert sum(g.count for g in groups) == len(pack.plan.source.inputs)
     assert f"All {len(pack.plan.source.inputs):,} inputs read from" in appendix
     for group in groups:
@@ -263,8 +274,8 @@ def test_every_input_appears_with_its_cell(pack: Rendered) -> None:
 
 def test_cautions_limitations_methods_and_references(pack: Rendered) -> None:
     text = pack.text
-    assert flat(words.CAUTION_LINE) in text and flat(words.DECISIONS_LINE) in text
-    for heading, body in words.limitations(pack.plan, ensemble=pack is not None and
+    assert flat(CAUTION_LINE) in text and flat(DECISIONS_LINE) in text
+    for heading, body in limitations(pack.plan, ensemble=pack is not None and
                                            "How certain the figures are" in text):
         assert flat(heading) in text and flat(body) in text
     for phrase in ("Appendix A. Methods", "Equations in words", "How transmissibility was derived",
@@ -276,7 +287,7 @@ def test_cautions_limitations_methods_and_references(pack: Rendered) -> None:
 
 def test_transmissibility_table(pack: Rendered) -> None:
     text = pack.text
-    for row in words.transmissibility_rows(pack.plan, pack.results):
+    for row in transmissibility_rows(pack.plan, pack.results):
         assert flat(f"{row.label} {' '.join(row.cells)}") in text
 
 
@@ -330,7 +341,7 @@ def test_html_is_self_contained_with_the_same_content(pack: Rendered) -> None:
     assert sources and all(s.startswith("data:image/svg+xml;base64,") for s in sources)
     assert 'href="pack.css"' not in html and "@font-face" not in html and "<style>" in html
     assert not re.search(r'(src|href)="(https?|file):', html)
-    for sentence in words.bottom_line(pack.views):
+    for sentence in bottom_line(pack.views):
         assert flat(sentence.replace("\u201c", "&#8220;")) in flat(html) or \
             flat(sentence) in flat(html)
 

@@ -21,8 +21,11 @@ from matplotlib.text import Text
 
 from prepkit.pipeline.demo import sample_workbook
 from prepkit.report import charts, charts_base
-from prepkit.report import context as words
 from prepkit.report.safety import AssetFetcher
+from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
+from prepkit.report.words.formatting import format_date, format_number
+from prepkit.report.words.uncertainty_text import ensemble_context
+from prepkit.report.words.views import scenario_views
 from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
@@ -34,7 +37,7 @@ matplotlib.use("Agg")
 def setup() -> Any:
     plan = banded_plan(3, horizon=200)
     results = run_plan(plan)
-    return plan, results, words.scenario_views(plan, results)
+    return plan, results, scenario_views(plan, results)
 
 
 @pytest.fixture(scope="module")
@@ -60,13 +63,13 @@ def test_alt_text_is_written_from_the_data(setup: Any, drawn: Any) -> None:
     for view, chart in zip(views, drawn, strict=False):
         ward = view.with_metrics.ward
         assert (
-            f"Ward demand with measures peaks at {words.format_number(ward.peak_demand_beds)} "
-            f"beds on {words.format_date(ward.peak_date)}"
+            f"Ward demand with measures peaks at {format_number(ward.peak_demand_beds)} "
+            f"beds on {format_date(ward.peak_date)}"
         ) in chart.alt
-        assert f"against {words.format_number(ward.available_beds)} available beds" in chart.alt
+        assert f"against {format_number(ward.available_beds)} available beds" in chart.alt
     outcomes = next(c for c in drawn if c.name == "total-outcomes")
     total = views[0].with_metrics.total
-    assert f"{words.format_number(total.admissions_persons)} admissions" in outcomes.alt
+    assert f"{format_number(total.admissions_persons)} admissions" in outcomes.alt
 
 
 def test_charts_are_byte_reproducible(setup: Any, drawn: Any) -> None:
@@ -266,7 +269,7 @@ def smallest_first() -> Any:
     # The premise: the first panel's own range is the smallest of all.
     assert peaks[0] < min(peaks[1:]) / 2, peaks
     ensemble = run_uncertainty(plan, results, draws=24)
-    return plan, results, words.scenario_views(plan, results), ensemble
+    return plan, results, scenario_views(plan, results), ensemble
 
 
 def test_no_chart_of_the_pack_clips_its_data(
@@ -274,11 +277,11 @@ def test_no_chart_of_the_pack_clips_its_data(
 ) -> None:
     plan, _, views, ensemble = smallest_first
     drawn = _capture_figures(monkeypatch)
-    focus = words.ensemble_context(plan, views, ensemble)
+    focus = ensemble_context(plan, views, ensemble)
     assert focus is not None
     jobs: list[Callable[[], charts.Chart]] = [
         *charts.chart_jobs(plan, views),
-        *charts.uncertainty_chart_jobs(plan, views, ensemble, focus=focus["focus"]),
+        *charts.uncertainty_chart_jobs(plan, views, ensemble, focus=focus.focus),
     ]
     made = [job() for job in jobs]
     assert len(drawn) == len(made) == len(views) + 4 + 4
@@ -294,11 +297,11 @@ def test_ensemble_window_holds_every_future_peak_and_the_busy_high_band(
     base = charts.chart_window(views)
     start, end = charts.ensemble_window(views, ensemble, base)
     assert start == base[0] and end >= base[1]
-    q_high = words.band_columns(ensemble.quantiles)[2]
+    q_high = band_columns(ensemble.quantiles)[2]
     tail = dt.timedelta(days=charts_base.TAIL_DAYS)
     widened = False
     for view in views:
-        result = words.scenario_ensemble(ensemble, view.name).with_interventions
+        result = scenario_ensemble(ensemble, view.name).with_interventions
         counts = result.peak_date_histogram["icu_demand_peak_draws_count"]
         assert counts[counts > 0].index.max().date() <= end
         for kind in ("ward", "icu"):

@@ -18,8 +18,11 @@ import pytest
 from scipy import stats
 
 from prepkit.pipeline import run as pipeline
-from prepkit.report import context as words
 from prepkit.report.observed import consistent_with
+from prepkit.report.words.formatting import format_date, format_number, quoted
+from prepkit.report.words.leader import DEATHS_NOTE, observed_flag
+from prepkit.report.words.scenario_text import bed_shortfall
+from prepkit.report.words.views import ScenarioView, scenario_views, with_observations
 from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
@@ -101,10 +104,10 @@ def town(tmp_path_factory: pytest.TempPathFactory) -> tuple[_Text, Path, object]
     return _render(workbook, folder / "pack", 0), folder / "pack", read_plan(workbook)
 
 
-def _views(plan: object, draws: int) -> tuple[tuple[words.ScenarioView, ...], object]:
+def _views(plan: object, draws: int) -> tuple[tuple[ScenarioView, ...], object]:
     results = run_plan(plan)  # type: ignore[arg-type]
     uncertainty = run_uncertainty(plan, results, draws=draws) if draws else None  # type: ignore[arg-type]
-    views = words.with_observations(plan, words.scenario_views(plan, results), uncertainty)  # type: ignore[arg-type]
+    views = with_observations(plan, scenario_views(plan, results), uncertainty)  # type: ignore[arg-type]
     return views, uncertainty
 
 
@@ -118,7 +121,7 @@ def test_each_peak_prints_the_same_number_on_every_page(city: tuple[_Text, Path,
     assert set(spread) == {v.name for v in views}
     for view in views:
         for kind, offset in (("ward", 0), ("icu", 3)):
-            peak = words.format_number(getattr(view.with_metrics, kind).peak_demand_beds)
+            peak = format_number(getattr(view.with_metrics, kind).peak_demand_beds)
             # The uncertainty table puts the central run first, beside median and range ...
             assert spread[view.name][offset] == peak
             # ... and the scenario page and the leader page quote that same run.
@@ -127,7 +130,7 @@ def test_each_peak_prints_the_same_number_on_every_page(city: tuple[_Text, Path,
         leader = parsed.section("summary")
         ward = view.with_metrics.ward
         if ward.days_over_capacity_days:
-            assert f"demand peaks at {words.format_number(ward.peak_demand_beds)} " in leader
+            assert f"demand peaks at {format_number(ward.peak_demand_beds)} " in leader
 
 
 def test_the_policy_is_said_where_the_two_kinds_of_figure_meet(
@@ -173,7 +176,7 @@ def test_town_sentences_add_up(town: tuple[_Text, Path, object]) -> None:
     for view in views:
         bed = view.with_metrics.icu
         if bed.days_over_capacity_days:
-            short = words.bed_shortfall(bed)
+            short = bed_shortfall(bed)
             peak = round(bed.peak_demand_beds)
             available = round(bed.available_beds)
             assert short == peak - available
@@ -185,7 +188,7 @@ def test_town_sentences_add_up(town: tuple[_Text, Path, object]) -> None:
 
 def test_deaths_are_labelled_everywhere(city: tuple[_Text, Path, object]) -> None:
     parsed, outdir, _ = city
-    assert words.DEATHS_NOTE in parsed.section("summary")
+    assert DEATHS_NOTE in parsed.section("summary")
     for row in parsed.rows:
         for cell in row[:1]:
             if "eath" in cell:
@@ -244,17 +247,17 @@ def test_scenario_pages_compare_with_the_observations(city: tuple[_Text, Path, o
     for view in views:
         page = parsed.section(f"scenario-{view.number}")
         assert view.observed_sentence and view.observed_sentence in page
-        assert f"Observed on {words.format_date(view.observed[0].date)}: " in page
+        assert f"Observed on {format_date(view.observed[0].date)}: " in page
         ward = next(c for c in view.observed if c.kind == "ward")
-        assert f"this scenario: {words.format_number(ward.central_beds, words=True)}" in page
+        assert f"this scenario: {format_number(ward.central_beds, words=True)}" in page
         if view.contradicted:
             flagged.append(view.name)
             assert "already lie" in page
     leader = parsed.section("summary")
     assert flagged, "the city sample's observations rule out at least one scenario"
-    assert words.observed_flag(views) in leader
+    assert observed_flag(views) in leader
     for name in flagged:
-        assert words.quoted(name) in words.observed_flag(views)
+        assert quoted(name) in observed_flag(views)
 
 
 def test_no_observations_no_sentence(town: tuple[_Text, Path, object]) -> None:

@@ -11,10 +11,34 @@ import pandas as pd
 import pytest
 from factories import banded_plan
 
-from prepkit.metrics.capacity import BedMetrics
+from prepkit.metrics.core import BedMetrics
 from prepkit.plan import End, Isolation, Start
 from prepkit.plan.records import InputRecord
-from prepkit.report import context as words
+from prepkit.report.words.assumptions import assumption_groups
+from prepkit.report.words.comparison import format_table_date
+from prepkit.report.words.ensemble_format import chance_cell, chance_phrase, likely_period
+from prepkit.report.words.formatting import (
+    Period,
+    beds_phrase,
+    count_phrase,
+    format_about,
+    format_date,
+    format_days,
+    format_number,
+    format_percent,
+    format_period,
+    lower_first,
+    periods_over,
+    quoted,
+    shortfall_beds,
+)
+from prepkit.report.words.leader import bottom_line, certainty_sentences
+from prepkit.report.words.limitations import SMALL_POPULATION, limitations
+from prepkit.report.words.measures import measure_what, measure_when
+from prepkit.report.words.pack import PackFigures, build_context, provenance_line
+from prepkit.report.words.scenario_text import bed_sentence, measures_sentence, surge_sentence
+from prepkit.report.words.uncertainty_text import drivers_sentence
+from prepkit.report.words.views import scenario_views
 from prepkit.scenarios.runs import run_plan
 
 D = dt.date
@@ -50,13 +74,13 @@ def bed(**changes: Any) -> BedMetrics:
     [(D(2027, 2, 27), True, "27 Feb 2027"), (D(2027, 12, 1), False, "1 Dec"), (None, True, "none")],
 )
 def test_format_date(day: dt.date | None, year: bool, expected: str) -> None:
-    assert words.format_date(day, year=year) == expected
+    assert format_date(day, year=year) == expected
 
 
 def test_format_period_prints_the_year_once() -> None:
-    assert words.format_period(D(2027, 2, 9), D(2027, 3, 23)) == "9 Feb to 23 Mar 2027"
-    assert words.format_period(D(2027, 12, 30), D(2028, 1, 2)) == "30 Dec 2027 to 2 Jan 2028"
-    assert words.format_period(D(2027, 5, 1), D(2027, 5, 1)) == "1 May 2027"
+    assert format_period(D(2027, 2, 9), D(2027, 3, 23)) == "9 Feb to 23 Mar 2027"
+    assert format_period(D(2027, 12, 30), D(2028, 1, 2)) == "30 Dec 2027 to 2 Jan 2028"
+    assert format_period(D(2027, 5, 1), D(2027, 5, 1)) == "1 May 2027"
 
 
 @pytest.mark.parametrize(
@@ -70,14 +94,14 @@ def test_format_period_prints_the_year_once() -> None:
 def test_format_number_gives_whole_beds_and_people(
     value: float | None, expected: str
 ) -> None:
-    assert words.format_number(value) == expected
+    assert format_number(value) == expected
 
 
 def test_a_fraction_of_a_bed_is_not_shown_as_none() -> None:
-    assert words.format_number(0.3, words=True) == "under 1"
-    assert words.beds_phrase(0.3) == "less than one bed"
-    assert words.beds_phrase(1.2) == "1 bed"
-    assert words.beds_phrase(33.4) == "33 beds"
+    assert format_number(0.3, words=True) == "under 1"
+    assert beds_phrase(0.3) == "less than one bed"
+    assert beds_phrase(1.2) == "1 bed"
+    assert beds_phrase(33.4) == "33 beds"
 
 
 @pytest.mark.parametrize(
@@ -95,7 +119,7 @@ def test_a_fraction_of_a_bed_is_not_shown_as_none() -> None:
 def test_shortfall_adds_up_as_printed(
     peak: float, available: float, largest: float, expected: int
 ) -> None:
-    assert words.shortfall_beds(peak, available, largest) == expected
+    assert shortfall_beds(peak, available, largest) == expected
 
 
 def test_bed_sentence_adds_up() -> None:
@@ -110,8 +134,8 @@ def test_bed_sentence_adds_up() -> None:
         first_over_capacity_date=dt.date(2027, 2, 7),
     )
     bed = BedMetrics(**fields)  # type: ignore[arg-type]
-    text = words.bed_sentence(
-        "icu", bed, (words.Period(dt.date(2027, 2, 7), dt.date(2027, 3, 30)),)
+    text = bed_sentence(
+        "icu", bed, (Period(dt.date(2027, 2, 7), dt.date(2027, 3, 30)),)
     )
     assert "peaking at 69 beds on 2 Mar 2027, 51 more than the 18 available" in text
     assert "." not in text.replace("2027.", "").split("peaking")[1].rstrip(".")
@@ -123,9 +147,9 @@ def test_bottom_line_says_both_for_two(small_results: Any) -> None:
         plan, capacity=dataclasses.replace(plan.capacity, ward_beds=100_000, icu_beds=100_000)
     )
     roomy = dataclasses.replace(roomy, scenarios=roomy.scenarios[:2])
-    views = words.scenario_views(roomy, run_plan(roomy))
+    views = scenario_views(roomy, run_plan(roomy))
     assert len(views) == 2
-    assert "available ward and ICU beds in both scenarios." in words.bottom_line(views)[0]
+    assert "available ward and ICU beds in both scenarios." in bottom_line(views)[0]
 
 
 @pytest.mark.parametrize(
@@ -133,7 +157,7 @@ def test_bottom_line_says_both_for_two(small_results: Any) -> None:
     [(1750.0, "1,800"), (3097.0, "3,100"), (150_123.0, "150,000"), (302.0, "302"), (6.8, "7")],
 )
 def test_format_about_rounds_large_counts_to_two_figures(value: float, expected: str) -> None:
-    assert words.format_about(value) == expected
+    assert format_about(value) == expected
 
 
 @pytest.mark.parametrize(
@@ -142,7 +166,7 @@ def test_format_about_rounds_large_counts_to_two_figures(value: float, expected:
      (232.0, "about 230 deaths"), (1350.0, "about 1,400 deaths"), (99.6, "about 100 deaths")],
 )
 def test_count_phrase(value: float, expected: str) -> None:
-    assert words.count_phrase(value, "death", "deaths") == expected
+    assert count_phrase(value, "death", "deaths") == expected
 
 
 @pytest.mark.parametrize(
@@ -151,17 +175,17 @@ def test_count_phrase(value: float, expected: str) -> None:
      (0.0996, "10%")],
 )
 def test_format_percent(share: float | None, expected: str) -> None:
-    assert words.format_percent(share) == expected
+    assert format_percent(share) == expected
 
 
 def test_small_helpers() -> None:
-    assert words.format_days(1) == "1 day" and words.format_days(1200) == "1,200 days"
-    assert words.quoted("Milder wave") == "\u201cMilder wave\u201d"
-    assert words.lower_first("Basic reproduction number R0") == "basic reproduction number R0"
-    assert words.lower_first("ICU share") == "ICU share"
-    assert words.format_table_date(D(2027, 3, 4), 2027) == "4 Mar"
-    assert words.format_table_date(D(2028, 1, 3), 2027) == "3 Jan 2028"
-    assert words.format_table_date(None, 2027) == "–"
+    assert format_days(1) == "1 day" and format_days(1200) == "1,200 days"
+    assert quoted("Milder wave") == "\u201cMilder wave\u201d"
+    assert lower_first("Basic reproduction number R0") == "basic reproduction number R0"
+    assert lower_first("ICU share") == "ICU share"
+    assert format_table_date(D(2027, 3, 4), 2027) == "4 Mar"
+    assert format_table_date(D(2028, 1, 3), 2027) == "3 Jan 2028"
+    assert format_table_date(None, 2027) == "–"
 
 
 # ---- Periods ------------------------------------------------------------------------------------
@@ -173,27 +197,27 @@ def _series(values: list[float]) -> pd.Series:
 
 def test_periods_over_finds_every_run_and_matches_the_day_count() -> None:
     demand = _series([0, 5, 12, 12, 3, 11, 11, 11])
-    periods = words.periods_over(demand, 10.0)
+    periods = periods_over(demand, 10.0)
     assert periods == (
-        words.Period(D(2027, 1, 3), D(2027, 1, 4)),
-        words.Period(D(2027, 1, 6), D(2027, 1, 8)),
+        Period(D(2027, 1, 3), D(2027, 1, 4)),
+        Period(D(2027, 1, 6), D(2027, 1, 8)),
     )
     assert sum(p.days for p in periods) == int((demand > 10.0).sum())
-    assert words.periods_over(_series([1, 2]), 10.0) == ()
+    assert periods_over(_series([1, 2]), 10.0) == ()
 
 
 def test_likely_period_is_the_first_run_at_or_above_one_half() -> None:
     probability = _series([0.1, 0.5, 0.8, 0.4, 0.6])
-    assert words.likely_period(probability) == words.Period(D(2027, 1, 2), D(2027, 1, 3))
-    assert words.likely_period(_series([0.1, 0.4])) is None
+    assert likely_period(probability) == Period(D(2027, 1, 2), D(2027, 1, 3))
+    assert likely_period(_series([0.1, 0.4])) is None
 
 
 # ---- Sentences ----------------------------------------------------------------------------------
 
 
 def test_bed_sentence_over_capacity_says_when_how_long_and_by_how_much() -> None:
-    periods = (words.Period(D(2027, 2, 10), D(2027, 3, 24)),)
-    text = words.bed_sentence("ward", bed(), periods, last_day=D(2027, 10, 30))
+    periods = (Period(D(2027, 2, 10), D(2027, 3, 24)),)
+    text = bed_sentence("ward", bed(), periods, last_day=D(2027, 10, 30))
     assert text == (
         "Ward demand exceeds the 90 available ward beds from 10 Feb to 24 Mar 2027 (43 days), "
         "peaking at 302 beds on 27 Feb 2027, 212 more than the 90 available."
@@ -201,36 +225,36 @@ def test_bed_sentence_over_capacity_says_when_how_long_and_by_how_much() -> None
 
 
 def test_bed_sentence_with_several_periods_and_to_the_end() -> None:
-    two = (words.Period(D(2027, 2, 1), D(2027, 2, 10)), words.Period(D(2027, 3, 1), D(2027, 3, 5)))
-    text = words.bed_sentence("icu", bed(days_over_capacity_days=15), two)
+    two = (Period(D(2027, 2, 1), D(2027, 2, 10)), Period(D(2027, 3, 1), D(2027, 3, 5)))
+    text = bed_sentence("icu", bed(days_over_capacity_days=15), two)
     assert "on 15 days between 1 Feb to 5 Mar 2027" in text
-    last = (words.Period(D(2027, 9, 1), D(2027, 10, 30)),)
-    text = words.bed_sentence("icu", bed(days_over_capacity_days=60), last, D(2027, 10, 30))
+    last = (Period(D(2027, 9, 1), D(2027, 10, 30)),)
+    text = bed_sentence("icu", bed(days_over_capacity_days=60), last, D(2027, 10, 30))
     assert "from 1 Sep 2027 to the end of the period shown (60 days)" in text
 
 
 def test_bed_sentence_within_capacity_and_without_demand() -> None:
-    within = words.bed_sentence("icu", bed(peak_demand_beds=3.7, days_over_capacity_days=0), ())
+    within = bed_sentence("icu", bed(peak_demand_beds=3.7, days_over_capacity_days=0), ())
     assert within == (
         "ICU demand stays within the 90 available ICU beds, peaking at 4 on 27 Feb 2027."
     )
-    none = words.bed_sentence("ward", bed(peak_demand_beds=0.0, peak_date=None), ())
+    none = bed_sentence("ward", bed(peak_demand_beds=0.0, peak_date=None), ())
     assert none == "Ward demand from the outbreak stays at zero."
 
 
 def test_surge_sentence_cases() -> None:
-    assert words.surge_sentence("ward", bed()) == (
+    assert surge_sentence("ward", bed()) == (
         "Opening the 150 surge ward beds (ready from 16 Feb 2027) would cut this to 25 days, "
         "with up to 92 beds still short."
     )
     closed = bed(days_over_capacity_with_surge_days=0)
-    assert "would close the gap" in words.surge_sentence("ward", closed)
-    assert words.surge_sentence("ward", bed(surge_beds=0.0)) == ""
-    assert words.surge_sentence("ward", bed(days_over_capacity_days=0)) == ""
+    assert "would close the gap" in surge_sentence("ward", closed)
+    assert surge_sentence("ward", bed(surge_beds=0.0)) == ""
+    assert surge_sentence("ward", bed(days_over_capacity_days=0)) == ""
     late = bed(days_over_capacity_with_surge_days=43, largest_shortfall_with_surge_beds=212.4)
-    assert "too late" in words.surge_sentence("icu", late)
+    assert "too late" in surge_sentence("icu", late)
     never = bed(surge_open_date=None)
-    assert "would not open" in words.surge_sentence("icu", never)
+    assert "would not open" in surge_sentence("icu", never)
 
 
 @pytest.fixture(scope="module")
@@ -242,29 +266,29 @@ def small_results() -> Any:
 def test_measures_sentence_uses_the_effect(small_results: Any) -> None:
     plan, results = small_results
     item = next(s for s in results if s.scenario.interventions)
-    text = words.measures_sentence(item)
+    text = measures_sentence(item)
     without = item.without_interventions.metrics.ward
     assert text.startswith(
         f"Without its measures, ward demand would peak at "
-        f"{words.format_number(without.peak_demand_beds)} beds on "
-        f"{words.format_date(without.peak_date)}."
+        f"{format_number(without.peak_demand_beds)} beds on "
+        f"{format_date(without.peak_date)}."
     )
     assert "The measures " in text
     bare = dataclasses.replace(item, scenario=dataclasses.replace(item.scenario, interventions=()))
-    assert "has no measures" in words.measures_sentence(bare)
+    assert "has no measures" in measures_sentence(bare)
 
 
 def test_views_brief_and_bottom_line_agree_with_metrics(small_results: Any) -> None:
     plan, results = small_results
-    views = words.scenario_views(plan, results)
+    views = scenario_views(plan, results)
     assert [v.name for v in views] == [s.name for s in plan.scenarios]
     for view in views:
         ward = view.with_metrics.ward
         assert sum(p.days for p in view.ward_periods) == ward.days_over_capacity_days
         if ward.days_over_capacity_days:
-            assert f"Ward beds run short on {words.format_days(ward.days_over_capacity_days)}" \
+            assert f"Ward beds run short on {format_days(ward.days_over_capacity_days)}" \
                 in view.brief
-    lines = words.bottom_line(views)
+    lines = bottom_line(views)
     assert 1 <= len(lines) <= 3
     short = [v for v in views if v.short_of_beds]
     if short:
@@ -278,20 +302,20 @@ def test_bottom_line_when_nothing_runs_short(small_results: Any) -> None:
     roomy = dataclasses.replace(
         plan, capacity=dataclasses.replace(plan.capacity, ward_beds=100_000, icu_beds=100_000)
     )
-    views = words.scenario_views(roomy, run_plan(roomy))
-    lines = words.bottom_line(views)
+    views = scenario_views(roomy, run_plan(roomy))
+    lines = bottom_line(views)
     assert lines[0].startswith("With the planned measures, outbreak patients stay within")
     top = max(views, key=lambda v: v.with_metrics.ward.peak_demand_beds)
-    assert words.format_number(top.with_metrics.ward.peak_demand_beds) in lines[1]
+    assert format_number(top.with_metrics.ward.peak_demand_beds) in lines[1]
 
 
 def test_certainty_without_an_ensemble_names_the_spread(small_results: Any) -> None:
     plan, results = small_results
-    views = words.scenario_views(plan, results)
-    text = " ".join(words.certainty_sentences(plan, views))
+    views = scenario_views(plan, results)
+    text = " ".join(certainty_sentences(plan, views))
     assert "not a range" in text
     off = dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0))
-    assert "switched off" in " ".join(words.certainty_sentences(off, views))
+    assert "switched off" in " ".join(certainty_sentences(off, views))
 
 
 @pytest.mark.parametrize(
@@ -300,8 +324,8 @@ def test_certainty_without_an_ensemble_names_the_spread(small_results: Any) -> N
      (0.97, "more than 9 of 10"), (1.0, "all")],
 )
 def test_chance_phrase(share: float, expected: str) -> None:
-    assert words.chance_phrase(share) == expected
-    assert words.chance_cell(0.0) == "none"
+    assert chance_phrase(share) == expected
+    assert chance_cell(0.0) == "none"
 
 
 def test_drivers_sentence_names_the_largest_swings() -> None:
@@ -313,36 +337,36 @@ def test_drivers_sentence_names_the_largest_swings() -> None:
             "swing_beds": [95.1, 20.0, 0.2],
         }
     )
-    text = words.drivers_sentence("Central", table)
+    text = drivers_sentence("Central", table)
     assert text == (
         "In \u201cCentral\u201d the ICU peak depends most on basic reproduction number R0: 22 "
         "beds with it at the low end of its range, 117 at the high end; then on ICU length of "
         "stay (50 and 70)."
     )
-    assert words.drivers_sentence("Central", table.assign(swing_beds=0.0)) == ""
+    assert drivers_sentence("Central", table.assign(swing_beds=0.0)) == ""
 
 
 # ---- Measures -----------------------------------------------------------------------------------
 
 
 def test_measure_when_wording() -> None:
-    assert words.measure_when(Start(kind="date", date=D(2027, 2, 13)),
+    assert measure_when(Start(kind="date", date=D(2027, 2, 13)),
                               End(kind="date", date=D(2027, 5, 31))) == \
         "From 13 Feb 2027; last day 31 May 2027"
-    assert words.measure_when(Start(kind="ward_occupancy", level=0.6),
+    assert measure_when(Start(kind="ward_occupancy", level=0.6),
                               End(kind="duration", duration_days=56)) == \
         "When ward demand reaches 60% of the available ward beds; for 56 days"
-    assert words.measure_when(Start(kind="admissions", level=25.0),
+    assert measure_when(Start(kind="admissions", level=25.0),
                               End(kind="release", level=10.0)) == \
         "When admissions reach 25 a day; until the level falls to 10 a day"
-    assert words.measure_when(Start(kind="icu_occupancy", level=0.8),
+    assert measure_when(Start(kind="icu_occupancy", level=0.8),
                               End(kind="horizon")).endswith("to the end of the period")
 
 
 def test_measure_what_wording(small_results: Any) -> None:
     plan, _ = small_results
     for item in plan.interventions:
-        text = words.measure_what(item)
+        text = measure_what(item)
         assert "compliance" in text
         if item.kind == "contacts":
             assert "of normal" in text
@@ -350,7 +374,7 @@ def test_measure_what_wording(small_results: Any) -> None:
         plan.interventions[0], kind="isolation", contacts_kept={},
         isolation=Isolation(isolated_share=0.5, days_from_onset=1.0),
     )
-    assert "isolate 1 day after symptoms start" in words.measure_what(iso)
+    assert "isolate 1 day after symptoms start" in measure_what(iso)
 
 
 # ---- Assumptions appendix -----------------------------------------------------------------------
@@ -380,7 +404,7 @@ def test_assumption_groups_keep_every_input_with_its_cell() -> None:
         _record("Population", "D6", "band.people", "People, band 5+", "200", "persons",
                 defaulted=True),
     ]
-    groups = words.assumption_groups(records)
+    groups = assumption_groups(records)
     assert [g.sheet for g in groups] == ["Plan", "Population", "Home contacts", "Scenarios"]
     assert sum(g.count for g in groups) == len(records)
     plan_group = groups[0]
@@ -406,7 +430,7 @@ def test_sparse_tables_are_listed_not_gridded() -> None:
         _record("Measures", f"{col}{row}", "measure.doses_per_day", f"Doses, measure {row}", "1")
         for row, col in [(5, "A"), (6, "C"), (7, "E"), (8, "G"), (9, "J"), (10, "L")]
     ]
-    (group,) = words.assumption_groups(records)
+    (group,) = assumption_groups(records)
     assert group.grids == () and len(group.rows) == len(records)
 
 
@@ -418,7 +442,7 @@ def test_provenance_line(small_results: Any) -> None:
     plan = dataclasses.replace(
         plan, source=dataclasses.replace(plan.source, path="/x/y/plan.xlsx", sha256="ab" * 32)
     )
-    line = words.provenance_line(plan, version="9.9", generated=dt.datetime(2027, 1, 2, 3, 4,
+    line = provenance_line(plan, version="9.9", generated=dt.datetime(2027, 1, 2, 3, 4,
                                                                             tzinfo=dt.UTC))
     assert "input plan.xlsx (SHA-256 abababababab)" in line
     assert "prepkit 9.9" in line and "run 2027-01-02 03:04 UTC" in line
@@ -427,23 +451,23 @@ def test_provenance_line(small_results: Any) -> None:
 
 def test_limitations_depend_on_the_plan(small_results: Any) -> None:
     plan, _ = small_results
-    heads = [h for h, _ in words.limitations(plan)]
+    heads = [h for h, _ in limitations(plan)]
     assert heads[:2] == ["A planning aid, not a forecast", "Who decides"]
-    assert ("Chance in a small population" in heads) == (plan.population < words.SMALL_POPULATION)
-    text = " ".join(t for _, t in words.limitations(plan, ensemble=True))
+    assert ("Chance in a small population" in heads) == (plan.population < SMALL_POPULATION)
+    text = " ".join(t for _, t in limitations(plan, ensemble=True))
     assert "Low to High" in text
 
 
 def test_build_context_is_plain_data(small_results: Any) -> None:
     plan, results = small_results
-    context = words.build_context(
-        plan, results, figures=words.PackFigures(), version="0", generated=dt.datetime(
+    context = build_context(
+        plan, results, figures=PackFigures(), version="0", generated=dt.datetime(
             2027, 1, 1, tzinfo=dt.UTC),
     )
     assert context["page_size"] == plan.details.page_size
     assert context["ensemble"] is None
     assert len(context["views"]) == len(plan.scenarios)
-    assert context["bottom_line"] == words.bottom_line(context["views"])
+    assert context["bottom_line"] == bottom_line(context["views"])
     assert np.isclose(
         sum(g.count for g in context["assumptions"]), len(plan.source.inputs)
     )
@@ -451,7 +475,7 @@ def test_build_context_is_plain_data(small_results: Any) -> None:
 
 def test_band_columns_name_the_ensemble_columns_for_any_quantiles() -> None:
     # The report reads the columns the ensemble writes, including fractional percentiles.
-    from prepkit.report.context import band_columns
+    from prepkit.report.words.ensemble_format import band_columns
     from prepkit.uncertainty.results import quantile_label
 
     assert band_columns((0.05, 0.5, 0.95)) == ("q05", "q50", "q95")

@@ -8,7 +8,9 @@ import datetime as dt
 from conftest import small_plan
 
 from prepkit.plan import End, Start
-from prepkit.report import context as words
+from prepkit.report.words.formatting import format_date, format_period, periods_over
+from prepkit.report.words.measures import measure_when
+from prepkit.report.words.views import MeasureSpan
 from prepkit.scenarios.daily import column_slug
 from prepkit.scenarios.runs import run_scenario
 
@@ -27,6 +29,6 @@ def test_a_measure_is_in_force_from_its_start_date_to_its_end_date_inclusive() -
     on = [d.date() for d, flag in active.items() if flag > 0.5]
     assert on[0] == first and on[-1] == last and len(on) == 14
     # The measures table and the scenario page's "in force" line give the same last day.
-    assert words.measure_when(closure.start, closure.end).endswith(words.format_date(last))
-    span = words.MeasureSpan(name=closure.name, periods=words.periods_over(active, 0.5))
-    assert span.text == f"{closure.name}: {words.format_period(first, last)}"
+    assert measure_when(closure.start, closure.end).endswith(format_date(last))
+    span = MeasureSpan(name=closure.name, periods=periods_over(active, 0.5))
+    assert span.text == f"{closure.name}: {format_period(first, last)}"

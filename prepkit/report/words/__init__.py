@@ -1,0 +1,1 @@
+"""The words and numbers of the briefing pack, by topic."""
