@@ -41,7 +41,6 @@ from prepkit.plan import SETTINGS, Plan, Scenario
 from prepkit.simulation.contacts import setting_matrices
 from prepkit.simulation.health import growth_bound, growth_step
 from prepkit.simulation.inputs import ResolvedInputs
-from prepkit.simulation.kernels import season_factor
 from prepkit.simulation.layout import (
     BLK_CUM_INF,
     BLK_E,
@@ -100,6 +99,7 @@ from prepkit.simulation.layout import (
     scalar_offset,
 )
 from prepkit.simulation.natural_history import isolation_multiplier
+from prepkit.simulation.seasonality import season_factor
 from prepkit.simulation.transmissibility import (
     NOBODY_INFECTS,
     Transmissibility,
@@ -121,7 +121,7 @@ DEFAULT_SUBSTEPS = 4
 MAX_STEP_RATE = 0.5
 """Largest (rate x step) of a single run, for every per-capita outflow rate met: Erlang stage
 rates and the force of infection with importations and dosing (the step rule of
-:func:`prepkit.simulation.kernels.advance_day`); faster days get more steps. Below the 1 that
+:func:`prepkit.simulation.step_rule.advance_day`); faster days get more steps. Below the 1 that
 keeps RK4 steps non-negative (see :mod:`prepkit.simulation.health`), for accuracy."""
 
 
@@ -259,7 +259,7 @@ def compile_model(
     substeps : int, optional
         Fewest RK4 steps per day; default :data:`DEFAULT_SUBSTEPS` (days
         with faster rates take more, see
-        :func:`prepkit.simulation.kernels.advance_day`).
+        :func:`prepkit.simulation.step_rule.advance_day`).
 
     Returns
     -------

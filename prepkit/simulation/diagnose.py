@@ -38,14 +38,6 @@ from prepkit.simulation.health import (
     failed_check,
 )
 from prepkit.simulation.inputs import ResolvedInputs
-from prepkit.simulation.kernels import (
-    REPORT_DRIFT,
-    REPORT_EXTRA,
-    REPORT_FAILED_DAY,
-    REPORT_LOWEST,
-    REPORT_RATE,
-    REPORT_STAGES,
-)
 from prepkit.simulation.layout import (
     N_SETTINGS,
     P_SUSCEPTIBILITY,
@@ -55,6 +47,14 @@ from prepkit.simulation.layout import (
     S_TOTAL_POP,
     matrix_offset,
     scalar_offset,
+)
+from prepkit.simulation.run_checks import (
+    REPORT_DRIFT,
+    REPORT_EXTRA,
+    REPORT_FAILED_DAY,
+    REPORT_LOWEST,
+    REPORT_RATE,
+    REPORT_STAGES,
 )
 from prepkit.simulation.transmissibility import reproduction_number
 

@@ -4,7 +4,7 @@ Equations in words
 ------------------
 No model equations. Every run (:func:`prepkit.simulation.kernels.run_days`) and
 every ensemble draw (:func:`prepkit.simulation.kernels.run_draws`) takes its RK4
-steps by the rule of :func:`prepkit.simulation.kernels.advance_day` and keeps a
+steps by the rule of :func:`prepkit.simulation.step_rule.advance_day` and keeps a
 report of checks made at every day boundary:
 
 * every number finite;
@@ -27,7 +27,7 @@ import math
 import numpy as np
 from numpy.typing import NDArray
 
-from prepkit.simulation.kernels import (
+from prepkit.simulation.run_checks import (
     REPORT_DRIFT,
     REPORT_FAILED_DAY,
     REPORT_LOWEST,

@@ -35,8 +35,9 @@ Intervention table
 Note for maintainers: the kernels are compiled with ``numba`` and cached
 (``cache=True``); the integer constants below are frozen into the cached
 machine code, and numba only notices changes to the kernels' own source
-file. After changing a constant here, also edit (or touch) ``kernels.py``
-or delete its ``__pycache__`` entries.
+files. This module is one of :data:`prepkit.simulation.kernels.COMPILED`:
+after changing it, update :data:`~prepkit.simulation.kernels.KERNEL_SOURCES`
+in each of them (tests/simulation/test_kernel_sources.py gives the value).
 """
 
 from __future__ import annotations
@@ -143,6 +144,10 @@ N_BAND_FIELDS = 11
     S_GROWTH_STEP,  # largest (growth rate x step) that keeps the rise accurate [dimensionless]
 ) = range(13)
 N_SCALARS = 13
+
+UINT = np.uint64
+"""Index type of the hot loops: numba tests signed indices for wrap-around, unsigned ones not."""
+
 
 N_SETTINGS = len(SETTINGS)
 SETTING_INDEX: dict[str, int] = {name: i for i, name in enumerate(SETTINGS)}

@@ -76,7 +76,7 @@ def transmission_is_finite(
     """True where the daily transmission matrix of a transmission scale stays finite.
 
     The kernels form ``(beta sigma_i) (sum_s mult_s M^s_ij) / N_j`` in that order
-    (:func:`prepkit.simulation.kernels.contact_matrix`) with every multiplier at most 1, so
+    (:func:`prepkit.simulation.decisions.contact_matrix`) with every multiplier at most 1, so
     the products ``beta sigma_i`` and ``beta sigma_i max_j sum_s M^s_ij`` decide.
 
     Parameters

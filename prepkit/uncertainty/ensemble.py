@@ -4,8 +4,8 @@ Equations in words
 ------------------
 The model is the one of :mod:`prepkit.simulation.kernels`; every draw is run by
 :func:`prepkit.simulation.kernels.run_draws`, which repeats the single-run loop
-(:func:`~prepkit.simulation.kernels.decide_day` then
-:func:`~prepkit.simulation.kernels.advance_day`, day by day, with the same step
+(:func:`~prepkit.simulation.decisions.decide_day` then
+:func:`~prepkit.simulation.step_rule.advance_day`, day by day, with the same step
 rule) for each draw on its own flat state, in parallel over draws, and
 checks every draw as a single run is checked (:mod:`prepkit.simulation.health`):
 a draw that fails stops the ensemble with an error naming its inputs.
@@ -62,7 +62,7 @@ from prepkit.plan import SETTINGS, Plan
 from prepkit.simulation.compile import DEFAULT_SUBSTEPS, MAX_STEP_RATE, CompiledModel
 from prepkit.simulation.diagnose import draw_error
 from prepkit.simulation.health import failed_rows, growth_bound, most_substeps
-from prepkit.simulation.kernels import REPORT_SIZE, run_draws
+from prepkit.simulation.kernels import run_draws
 from prepkit.simulation.layout import (
     IT_CEILING,
     IT_ISO_SYMPTOMATIC,
@@ -90,6 +90,7 @@ from prepkit.simulation.layout import (
     scalar_offset,
 )
 from prepkit.simulation.natural_history import share_before_isolation
+from prepkit.simulation.run_checks import REPORT_SIZE
 from prepkit.simulation.transmissibility import NOBODY_INFECTS, transmission_is_finite
 
 ENSEMBLE_MIN_SUBSTEPS = 1
@@ -102,7 +103,7 @@ draw equals :func:`prepkit.scenarios.runs.run_scenario` with the same overrides)
 
 ENSEMBLE_MAX_STEP_RATE = 1.0
 """Largest (rate x step) in the ensemble for the stage rates and the growth bound (the step
-rule of :func:`prepkit.simulation.kernels.advance_day`); faster days get more steps. 1 is the
+rule of :func:`prepkit.simulation.step_rule.advance_day`); faster days get more steps. 1 is the
 largest value for which an RK4 step keeps every compartment of a linear flow non-negative
 (see :mod:`prepkit.simulation.health`); classical RK4 would stay stable up to 2.785 on the
 negative real axis (Hairer, Norsett & Wanner 1993, Solving Ordinary Differential Equations

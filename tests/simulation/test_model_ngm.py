@@ -7,7 +7,8 @@ from factories import compiled, make_plan
 from numpy.testing import assert_allclose
 
 from prepkit.simulation.contacts import preferential_mixing
-from prepkit.simulation.kernels import decide_day, rhs
+from prepkit.simulation.decisions import decide_day
+from prepkit.simulation.flows import rhs
 from prepkit.simulation.layout import BLK_E, BLK_S, BLK_V, BLK_W, daily_size
 from prepkit.simulation.transmissibility import (
     infected_subsystem,
