@@ -23,6 +23,7 @@ numbers never reach a result.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 import numpy as np
 from numpy.typing import NDArray
@@ -143,7 +144,15 @@ def growth_bound(
         return np.asarray(scale * ((lat + start) / (lat + x)) ** m * ratio - 1.0)
 
     high = (lat + start) * scale ** (1.0 / m) - lat  # the latent chain alone
-    low = start.copy()
+    return _bisect(excess, start.copy(), high)
+
+
+def _bisect(
+    excess: Callable[[NDArray[np.float64]], NDArray[np.float64]],
+    low: NDArray[np.float64],
+    high: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """Upper end, at least 0, after 60 halvings of ``[low, high]`` towards ``excess = 0``."""
     growing = high > low
     high = np.where(growing, high, low)
     for _ in range(60):

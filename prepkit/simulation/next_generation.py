@@ -2,7 +2,6 @@
 
 Equations in words
 ------------------
-------------------
 Near the disease-free state the infected compartments (latent ``E``,
 ``EV``; infectious ``A``, ``Y``, ``P``) follow a linear system
 ``x' = (F - V) x``: ``F`` holds the new infections (only into the first

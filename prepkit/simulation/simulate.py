@@ -140,12 +140,8 @@ def simulate_reference(
 
     Parameters
     ----------
-    model : CompiledModel
-        The run.
-    y0 : ndarray, optional
-        State at day 0; default the model's.
-    days : int, optional
-        Days to simulate [days]; default the plan horizon.
+    model, y0, days
+        The run, its state at day 0 and its days [days], as for :func:`simulate`.
     rtol : float
         Relative tolerance of DOP853.
     atol_per_person : float

@@ -2,14 +2,11 @@
 
 Equations in words
 ------------------
-Near the disease-free state the infected compartments (latent ``E``,
-``EV``; infectious ``A``, ``Y``, ``P``) follow a linear system
-``x' = (F - V) x``: ``F`` holds the new infections (only into the first
-latent stage, unprotected ``E_1`` and protected ``EV_1``), ``V`` every
-other transition (stage progressions, the split at the end of latency and
-leaving the infected subsystem by recovery or admission). Both are built
-here from the same parameter vector the kernels use, so the numbers below
-belong to the model that is simulated.
+Near the disease-free state the infected compartments follow
+``x' = (F - V) x``, ``F`` the new infections and ``V`` every other
+transition, both built by :mod:`prepkit.simulation.next_generation` from
+the parameter vector the kernels use, so the numbers below belong to the
+model that is simulated.
 
 * Next-generation matrix ``K = F V^-1`` (restricted to the entry states);
   its spectral radius is the reproduction number. With everybody
@@ -210,15 +207,8 @@ def beta_for_growth_rate(target_r: float, pc: NDArray[np.float64], layout: State
     ----------
     target_r : float
         Growth rate [1/day].
-    pc : ndarray
-        Parameter vector (its beta is ignored).
-    layout : StateLayout
-        State layout.
-
-    Returns
-    -------
-    float
-        beta [per contact].
+    pc, layout
+        As for :func:`beta_for_r0`; returns beta [per contact] likewise.
 
     References
     ----------
