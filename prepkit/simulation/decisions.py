@@ -67,7 +67,7 @@ from prepkit.simulation.layout import (
     UINT as _U,
 )
 
-KERNEL_SOURCES = "4692792df9b86d49"
+KERNEL_SOURCES = "b3a3b280a7efe3b8"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

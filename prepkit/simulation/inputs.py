@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, fields, replace
+from types import MappingProxyType
 from typing import Any, Literal
 
 from prepkit.errors import ModelError
@@ -24,7 +25,9 @@ from prepkit.plan import LEVELS, Level, Plan, Scenario
 
 Measure = Literal["r0", "doubling_time", "growth_rate"]
 
-DOUBLING_TIME_LEVEL: dict[Level, Level] = {"low": "high", "central": "central", "high": "low"}
+DOUBLING_TIME_LEVEL: Mapping[Level, Level] = MappingProxyType(
+    {"low": "high", "central": "central", "high": "low"}
+)
 """Doubling-time level used for each transmissibility level (inverted)."""
 
 

@@ -65,7 +65,7 @@ from prepkit.simulation.run_checks import (
 )
 from prepkit.simulation.step_rule import advance_day, day_rates
 
-KERNEL_SOURCES = "4692792df9b86d49"
+KERNEL_SOURCES = "b3a3b280a7efe3b8"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

@@ -11,7 +11,9 @@ planner's workbook (sheet, cell and label).
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
+from types import MappingProxyType
 
 import numpy as np
 from numpy.typing import NDArray
@@ -31,11 +33,11 @@ from prepkit.simulation.layout import (
     scalar_offset,
 )
 
-TRANSMISSIBILITY_FIELDS = {
+TRANSMISSIBILITY_FIELDS: Mapping[str, tuple[str, str]] = MappingProxyType({
     "r0": ("disease.r0", ""),
     "doubling_time": ("disease.doubling_time_days", "days"),
     "growth_rate": ("disease.growth_rate_per_day", "per day"),
-}
+})
 
 
 
