@@ -11,11 +11,12 @@ many draws in parallel and keeps only what the ensemble reports.
 
 Numba's cache and the split into modules
 ----------------------------------------
-numba keys the cache of a compiled function on its own source file only (time
-stamp and size), yet the machine code it keeps holds every compiled function
-it calls and every constant it reads. Measured with numba 0.68: a cached
-function calling a function of another module kept returning the old result
-after that module was edited, until its own file changed. So every module in
+numba keys the cache of a compiled function on its own source file only (numba
+0.68: a hash of the file's text), yet the machine code it keeps holds every
+compiled function it calls and every constant it reads. Measured with numba
+0.68: a cached function calling a function of another module kept returning
+the old result after that module was edited (also after its own file was
+touched), and the new one once its own file's text changed. So every module in
 :data:`COMPILED` carries :data:`KERNEL_SOURCES`, a digest of all of them
 (tests/simulation/test_kernel_sources.py checks it and gives the new value):
 an edit to any of them changes every one of their files, and numba compiles
@@ -65,7 +66,7 @@ from prepkit.simulation.run_checks import (
 )
 from prepkit.simulation.step_rule import advance_day, day_rates
 
-KERNEL_SOURCES = "b3a3b280a7efe3b8"
+KERNEL_SOURCES = "e38e9c63a41ee3ea"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 
