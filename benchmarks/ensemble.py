@@ -60,7 +60,8 @@ from prepkit.errors import ModelError  # noqa: E402
 from prepkit.plan import Plan, Range3  # noqa: E402
 from prepkit.scenarios.runs import compile_scenario, run_plan  # noqa: E402
 from prepkit.simulation.compile import CompiledModel  # noqa: E402
-from prepkit.simulation.kernels import decide_day, rhs  # noqa: E402
+from prepkit.simulation.decisions import decide_day  # noqa: E402
+from prepkit.simulation.flows import rhs  # noqa: E402
 from prepkit.simulation.layout import BLK_C, BLK_W, daily_size  # noqa: E402
 from prepkit.simulation.simulate import simulate_reference  # noqa: E402
 from prepkit.simulation.threads import use_all_cores  # noqa: E402

@@ -71,7 +71,7 @@ class ScenarioRun:
         R0, growth rate, doubling time, generation time, effective R at day 0.
     substeps : int
         The most RK4 steps taken on one day (the step rule of
-        :func:`prepkit.simulation.kernels.advance_day` chooses them day by day).
+        :func:`prepkit.simulation.step_rule.advance_day` chooses them day by day).
     """
 
     scenario: str

@@ -36,71 +36,26 @@ import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
-from prepkit.plan import SETTINGS, Plan, Scenario
-from prepkit.simulation.contacts import setting_matrices
-from prepkit.simulation.health import growth_bound, growth_step
+from prepkit.plan import Plan, Scenario
 from prepkit.simulation.inputs import ResolvedInputs
-from prepkit.simulation.kernels import season_factor
+from prepkit.simulation.intervention_table import capacity_array, intervention_table
 from prepkit.simulation.layout import (
-    BLK_CUM_INF,
-    BLK_E,
-    BLK_R,
     BLK_S,
-    CAP_CATCHMENT,
-    CAP_ICU_AVAILABLE,
-    CAP_WARD_AVAILABLE,
-    END_CODES,
-    IT_CEILING,
-    IT_DOSES,
-    IT_DURATION,
-    IT_END_DAY,
-    IT_END_KIND,
-    IT_FIXED_COLUMNS,
-    IT_ISO_SYMPTOMATIC,
-    IT_ISO_WAITING,
-    IT_KIND,
-    IT_MULTIPLIER,
-    IT_RELEASE_LEVEL,
-    IT_SCHOOL_CLOSURE,
-    IT_START_DAY,
-    IT_START_KIND,
-    IT_START_LEVEL,
-    KIND_CODES,
-    N_CAP,
-    N_SETTINGS,
-    P_ADMIT,
-    P_ADMIT_PROTECTED,
-    P_ICU,
-    P_ICU_FATALITY,
-    P_ICU_RATE,
     P_POP,
-    P_SUSCEPTIBILITY,
-    P_SYMPTOMATIC,
-    P_WAIT_RATE,
-    P_WARD_FATALITY,
-    P_WARD_RATE,
     S_BETA,
-    S_DOSE_TO_WAITING,
-    S_GROWTH_BOUND,
-    S_GROWTH_STEP,
-    S_IMPORTS,
-    S_INFECTIOUS_RATE,
-    S_LATENT_RATE,
-    S_PROTECT_RATE,
-    S_RHO,
     S_SEASON_AMPLITUDE,
     S_SEASON_PEAK_DAY,
-    S_TOTAL_POP,
-    S_VE_INFECTION,
-    START_CODES,
     StateLayout,
-    matrix_offset,
-    parameter_size,
     scalar_offset,
 )
-from prepkit.simulation.natural_history import isolation_multiplier
-from prepkit.simulation.next_generation import beta_for_targets
-from prepkit.simulation.protected_admission import protected_admitted_share
+from prepkit.simulation.parameters import (
+    calibrate_transmission,
+    check_durations,
+    initial_state,
+    model_layout,
+    parameter_vector,
+)
+from prepkit.simulation.seasonality import season_factor
 from prepkit.simulation.transmissibility import (
     Transmissibility,
     doubling_time,
@@ -264,143 +219,21 @@ def compile_model(
         The compiled run, beta calibrated.
     """
     disease = plan.disease
-    severity = plan.severity
-    bands = plan.bands
-    nb = len(bands)
-    layout = StateLayout(
-        bands=nb,
-        latent_stages=disease.latent_stages,
-        infectious_stages=disease.infectious_stages,
-        wait_stages=severity.admission_delay_stages,
-        ward_stages=severity.ward_stages,
-        icu_stages=severity.icu_stages,
-    )
-    pop = np.array([b.people for b in bands], dtype=np.float64)
+    layout = model_layout(plan)
+    pop = np.array([b.people for b in plan.bands], dtype=np.float64)
     if np.any(pop <= 0.0):
         raise ModelError("every age band needs a positive population")
-    total = float(pop.sum())
 
     names = tuple(scenario.interventions) if with_interventions else ()
     items = [plan.intervention(name) for name in names]
     vaccines = [item.vaccination for item in items if item.vaccination is not None]
-    ve_inf = inputs.efficacy_infection if vaccines else 0.0
-    ve_sev = inputs.efficacy_severe if vaccines else 0.0
-    days_to_protection = vaccines[0].days_to_protection if vaccines else 0.0
-
-    p_sym = np.array(inputs.symptomatic_share, dtype=np.float64)
-    h = np.minimum(np.array(inputs.admitted_share, dtype=np.float64), p_sym)
-    hv = protected_admitted_share(p_sym, h, ve_inf, ve_sev)
-    wait_days = np.array(severity.onset_to_admission_days, dtype=np.float64)
-    ward_days = np.array(inputs.ward_stay_days, dtype=np.float64)
-    icu_days = np.array(inputs.icu_stay_days, dtype=np.float64)
-    if min(inputs.latent_period_days, inputs.infectious_period_days) <= 0.0:
-        raise ModelError("latent and infectious periods must be positive")
-    if np.any(wait_days <= 0.0) or np.any(ward_days <= 0.0) or np.any(icu_days <= 0.0):
-        raise ModelError("onset-to-admission delays and stays must be positive")
-
-    pc = np.zeros(parameter_size(nb))
-
-    def put(field: int, values: NDArray[np.float64] | tuple[float, ...]) -> None:
-        pc[field * nb : (field + 1) * nb] = np.asarray(values, dtype=np.float64)
-
-    put(P_POP, pop)
-    put(P_SUSCEPTIBILITY, tuple(disease.relative_susceptibility))
-    put(P_SYMPTOMATIC, p_sym)
-    put(P_ADMIT, h)
-    put(P_ADMIT_PROTECTED, hv)
-    put(P_ICU, inputs.icu_share)
-    put(P_WARD_FATALITY, tuple(severity.ward_fatality))
-    put(P_ICU_FATALITY, tuple(severity.icu_fatality))
-    put(P_WAIT_RATE, layout.wait_stages / wait_days)
-    put(P_WARD_RATE, layout.ward_stages / ward_days)
-    put(P_ICU_RATE, layout.icu_stages / icu_days)
-    sc = scalar_offset(nb)
-    pc[sc + S_LATENT_RATE] = layout.latent_stages / inputs.latent_period_days
-    pc[sc + S_INFECTIOUS_RATE] = layout.infectious_stages / inputs.infectious_period_days
-    pc[sc + S_RHO] = disease.asymptomatic_relative_infectiousness
-    pc[sc + S_VE_INFECTION] = ve_inf
-    if days_to_protection > 0.0:
-        pc[sc + S_PROTECT_RATE] = 1.0 / days_to_protection
-        pc[sc + S_DOSE_TO_WAITING] = 1.0
-    pc[sc + S_SEASON_AMPLITUDE] = disease.seasonal_amplitude
-    pc[sc + S_SEASON_PEAK_DAY] = seasonal_peak_day(plan.details.day0, disease.seasonal_peak)
-    pc[sc + S_IMPORTS] = disease.daily_importations
-    pc[sc + S_TOTAL_POP] = total
-    mo = matrix_offset(nb)
-    pc[mo:] = setting_matrices(plan.contacts, pop).ravel()
-
-    measure, value = inputs.transmissibility_measure, inputs.transmissibility_value
-    beta = float(beta_for_targets(
-        pc, layout, measure, [value],
-        p_sym[None, :], h[None, :], [pc[sc + S_LATENT_RATE]], [pc[sc + S_INFECTIOUS_RATE]],
-    )[0])
-    pc[sc + S_BETA] = beta
-    pc[sc + S_GROWTH_BOUND] = float(growth_bound(
-        measure, value,
-        latent=(pc[sc + S_LATENT_RATE], layout.latent_stages),
-        infectious=(pc[sc + S_INFECTIOUS_RATE], layout.infectious_stages),
-        waiting=(float(np.max(pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb])),
-                 layout.wait_stages),
-        amplitude=disease.seasonal_amplitude,
-    ))
-    pc[sc + S_GROWTH_STEP] = growth_step(
-        total, disease.initial_infections + disease.daily_importations
-    )
-
-    itab = np.zeros((len(items), IT_FIXED_COLUMNS + nb))
-    iprio = np.full((len(items), nb), -1, dtype=np.int64)
-    for r, item in enumerate(items):
-        comp = float(inputs.compliance.get(item.name, item.compliance.central))
-        row = itab[r]
-        row[IT_KIND] = KIND_CODES[item.kind]
-        row[IT_START_KIND] = START_CODES[item.start.kind]
-        if item.start.date is not None:
-            row[IT_START_DAY] = plan.day_of(item.start.date)
-        row[IT_START_LEVEL] = item.start.level if item.start.level is not None else np.inf
-        row[IT_END_KIND] = END_CODES[item.end.kind]
-        if item.end.date is not None:
-            # The end date is the last day in force: the measure stops at the
-            # midnight that follows it.
-            row[IT_END_DAY] = plan.day_of(item.end.date) + 1
-        row[IT_DURATION] = item.end.duration_days or 0.0
-        row[IT_RELEASE_LEVEL] = item.end.level if item.end.level is not None else -np.inf
-        row[IT_MULTIPLIER : IT_MULTIPLIER + N_SETTINGS] = 1.0
-        row[IT_ISO_SYMPTOMATIC] = 1.0
-        row[IT_ISO_WAITING : IT_ISO_WAITING + nb] = 1.0
-        if item.kind == "contacts":
-            for s, setting in enumerate(SETTINGS):
-                kept = float(item.contacts_kept.get(setting, 1.0))
-                row[IT_MULTIPLIER + s] = 1.0 - comp * (1.0 - kept)
-            row[IT_SCHOOL_CLOSURE] = comp * (1.0 - float(item.contacts_kept.get("school", 1.0)))
-        elif item.kind == "vaccination" and item.vaccination is not None:
-            row[IT_DOSES] = item.vaccination.doses_per_day
-            row[IT_CEILING] = item.vaccination.uptake_ceiling * comp
-            order = list(item.vaccination.priority)
-            iprio[r, : len(order)] = order
-        elif item.kind == "isolation" and item.isolation is not None:
-            eps = item.isolation.isolated_share * comp
-            delay = item.isolation.days_from_onset
-            row[IT_ISO_SYMPTOMATIC] = isolation_multiplier(
-                eps, delay, inputs.infectious_period_days, layout.infectious_stages
-            )
-            for i in range(nb):
-                row[IT_ISO_WAITING + i] = isolation_multiplier(
-                    eps, delay, float(wait_days[i]), layout.wait_stages
-                )
-
-    capacity = plan.capacity
-    cap = np.zeros(N_CAP)
-    cap[CAP_CATCHMENT] = capacity.catchment_share
-    cap[CAP_WARD_AVAILABLE] = capacity.ward_beds * (1.0 - capacity.ward_baseline_occupancy)
-    cap[CAP_ICU_AVAILABLE] = capacity.icu_beds * (1.0 - capacity.icu_baseline_occupancy)
-
-    y0 = np.zeros(layout.size)
-    seeded = disease.initial_infections * pop / total
-    immune = np.asarray(disease.prior_immunity, dtype=np.float64) * pop
-    y0[layout.stage(BLK_S)] = np.maximum(pop - immune - seeded, 0.0)
-    y0[layout.stage(BLK_R)] = immune
-    y0[layout.stage(BLK_E)] = seeded
-    y0[layout.stage(BLK_CUM_INF)] = seeded
+    check_durations(plan, inputs)
+    peak_day = seasonal_peak_day(plan.details.day0, disease.seasonal_peak)
+    pc = parameter_vector(plan, inputs, layout, pop, vaccines, peak_day)
+    calibrate_transmission(pc, layout, inputs, disease)
+    itab, iprio = intervention_table(plan, items, inputs, layout)
+    cap = capacity_array(plan)
+    y0 = initial_state(layout, disease, pop)
 
     steps = DEFAULT_SUBSTEPS if substeps is None else int(substeps)
     if steps < 1:

@@ -4,7 +4,7 @@ Equations in words
 ------------------
 No model equations. Every run (:func:`prepkit.simulation.kernels.run_days`) and
 every ensemble draw (:func:`prepkit.simulation.kernels.run_draws`) takes its RK4
-steps by the rule of :func:`prepkit.simulation.kernels.advance_day` and keeps a
+steps by the rule of :func:`prepkit.simulation.step_rule.advance_day` and keeps a
 report of checks made at every day boundary:
 
 * every number finite;
@@ -23,11 +23,12 @@ numbers never reach a result.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 import numpy as np
 from numpy.typing import NDArray
 
-from prepkit.simulation.kernels import (
+from prepkit.simulation.run_checks import (
     REPORT_DRIFT,
     REPORT_FAILED_DAY,
     REPORT_LOWEST,
@@ -143,7 +144,15 @@ def growth_bound(
         return np.asarray(scale * ((lat + start) / (lat + x)) ** m * ratio - 1.0)
 
     high = (lat + start) * scale ** (1.0 / m) - lat  # the latent chain alone
-    low = start.copy()
+    return _bisect(excess, start.copy(), high)
+
+
+def _bisect(
+    excess: Callable[[NDArray[np.float64]], NDArray[np.float64]],
+    low: NDArray[np.float64],
+    high: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """Upper end, at least 0, after 60 halvings of ``[low, high]`` towards ``excess = 0``."""
     growing = high > low
     high = np.where(growing, high, low)
     for _ in range(60):

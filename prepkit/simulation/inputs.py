@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, fields, replace
+from types import MappingProxyType
 from typing import Any, Literal
 
 from prepkit.errors import ModelError
@@ -24,7 +25,9 @@ from prepkit.plan import LEVELS, Level, Plan, Scenario
 
 Measure = Literal["r0", "doubling_time", "growth_rate"]
 
-DOUBLING_TIME_LEVEL: dict[Level, Level] = {"low": "high", "central": "central", "high": "low"}
+DOUBLING_TIME_LEVEL: Mapping[Level, Level] = MappingProxyType(
+    {"low": "high", "central": "central", "high": "low"}
+)
 """Doubling-time level used for each transmissibility level (inverted)."""
 
 
@@ -181,66 +184,12 @@ def validate_plan(plan: Plan) -> None:
     ModelError
         Listing every problem found.
     """
-    problems: list[str] = []
-    bands = len(plan.bands)
-    disease = plan.disease
-    severity = plan.severity
-    per_band = {
-        "symptomatic share": disease.symptomatic_share,
-        "relative susceptibility": disease.relative_susceptibility,
-        "prior immunity": disease.prior_immunity,
-        "admitted share": severity.admitted_share,
-        "ICU share": severity.icu_share,
-        "ward fatality": severity.ward_fatality,
-        "ICU fatality": severity.icu_fatality,
-        "onset to admission": severity.onset_to_admission_days,
-        "ward stay": severity.ward_stay_days,
-        "ICU stay": severity.icu_stay_days,
-    }
-    for label, values in per_band.items():
-        if len(values) != bands:
-            problems.append(f"{label} has {len(values)} values; expected {bands}")
+    problems = _band_count_problems(plan)
     if problems:
         raise ModelError("; ".join(problems))
-
-    for i, band in enumerate(plan.bands):
-        p_central = disease.symptomatic_share[i].central
-        for level in LEVELS:
-            h = severity.admitted_share[i].at(level)
-            if h > p_central + 1e-12:
-                problems.append(
-                    f"admitted share ({level}) of band {band.label} is {h:.4g}; expected at most "
-                    f"the symptomatic share {p_central:.4g}"
-                )
-        if severity.onset_to_admission_days[i] <= 0.0:
-            problems.append(f"onset to admission of band {band.label} must be positive")
-        if min(severity.ward_stay_days[i].low, severity.icu_stay_days[i].low) <= 0.0:
-            problems.append(f"ward and ICU stays of band {band.label} must be positive")
-        seeded = disease.initial_infections * band.people / max(plan.population, 1e-300)
-        if disease.prior_immunity[i] * band.people + seeded > band.people * (1 + 1e-12):
-            problems.append(
-                f"prior immunity plus day-0 infections exceed the population of band {band.label}"
-            )
-    if min(disease.latent_period_days.low, disease.infectious_period_days.low) <= 0.0:
-        problems.append("latent and infectious periods must be positive")
-    stage_counts = (
-        disease.latent_stages,
-        disease.infectious_stages,
-        severity.admission_delay_stages,
-        severity.ward_stages,
-        severity.icu_stages,
-    )
-    if min(stage_counts) < 1:
-        problems.append("every Erlang stage count must be at least 1")
-    if not 0.0 <= disease.seasonal_amplitude < 1.0:
-        problems.append(
-            f"seasonal amplitude is {disease.seasonal_amplitude:.4g}; expected in [0, 1)"
-        )
-    if disease.seasonal_amplitude > 0.0 and disease.seasonal_peak is None:
-        problems.append("seasonal amplitude is set but the seasonal peak date is not")
-    if plan.details.horizon_days < 1:
-        problems.append("horizon must be at least 1 day")
-
+    problems += _band_problems(plan)
+    problems += _disease_problems(plan)
+    bands = len(plan.bands)
     for item in plan.interventions:
         problems.extend(_intervention_problems(item, bands))
     for scenario in plan.scenarios:
@@ -263,6 +212,83 @@ def validate_plan(plan: Plan) -> None:
             )
     if problems:
         raise ModelError("; ".join(problems))
+
+
+def _band_count_problems(plan: Plan) -> list[str]:
+    """Per-band inputs with a value count other than the number of bands."""
+    problems: list[str] = []
+    bands = len(plan.bands)
+    disease = plan.disease
+    severity = plan.severity
+    per_band = {
+        "symptomatic share": disease.symptomatic_share,
+        "relative susceptibility": disease.relative_susceptibility,
+        "prior immunity": disease.prior_immunity,
+        "admitted share": severity.admitted_share,
+        "ICU share": severity.icu_share,
+        "ward fatality": severity.ward_fatality,
+        "ICU fatality": severity.icu_fatality,
+        "onset to admission": severity.onset_to_admission_days,
+        "ward stay": severity.ward_stay_days,
+        "ICU stay": severity.icu_stay_days,
+    }
+    for label, values in per_band.items():
+        if len(values) != bands:
+            problems.append(f"{label} has {len(values)} values; expected {bands}")
+    return problems
+
+
+def _band_problems(plan: Plan) -> list[str]:
+    """Admitted shares above the symptomatic share, delays and stays, day-0 people per band."""
+    problems: list[str] = []
+    disease = plan.disease
+    severity = plan.severity
+    for i, band in enumerate(plan.bands):
+        p_central = disease.symptomatic_share[i].central
+        for level in LEVELS:
+            h = severity.admitted_share[i].at(level)
+            if h > p_central + 1e-12:
+                problems.append(
+                    f"admitted share ({level}) of band {band.label} is {h:.4g}; expected at most "
+                    f"the symptomatic share {p_central:.4g}"
+                )
+        if severity.onset_to_admission_days[i] <= 0.0:
+            problems.append(f"onset to admission of band {band.label} must be positive")
+        if min(severity.ward_stay_days[i].low, severity.icu_stay_days[i].low) <= 0.0:
+            problems.append(f"ward and ICU stays of band {band.label} must be positive")
+        seeded = disease.initial_infections * band.people / max(plan.population, 1e-300)
+        if disease.prior_immunity[i] * band.people + seeded > band.people * (1 + 1e-12):
+            problems.append(
+                f"prior immunity plus day-0 infections exceed the population of band {band.label}"
+            )
+    return problems
+
+
+def _disease_problems(plan: Plan) -> list[str]:
+    """Periods, stage counts, seasonality and horizon."""
+    problems: list[str] = []
+    disease = plan.disease
+    severity = plan.severity
+    if min(disease.latent_period_days.low, disease.infectious_period_days.low) <= 0.0:
+        problems.append("latent and infectious periods must be positive")
+    stage_counts = (
+        disease.latent_stages,
+        disease.infectious_stages,
+        severity.admission_delay_stages,
+        severity.ward_stages,
+        severity.icu_stages,
+    )
+    if min(stage_counts) < 1:
+        problems.append("every Erlang stage count must be at least 1")
+    if not 0.0 <= disease.seasonal_amplitude < 1.0:
+        problems.append(
+            f"seasonal amplitude is {disease.seasonal_amplitude:.4g}; expected in [0, 1)"
+        )
+    if disease.seasonal_amplitude > 0.0 and disease.seasonal_peak is None:
+        problems.append("seasonal amplitude is set but the seasonal peak date is not")
+    if plan.details.horizon_days < 1:
+        problems.append("horizon must be at least 1 day")
+    return problems
 
 
 def _intervention_problems(item: Any, bands: int) -> list[str]:

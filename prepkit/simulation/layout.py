@@ -35,13 +35,16 @@ Intervention table
 Note for maintainers: the kernels are compiled with ``numba`` and cached
 (``cache=True``); the integer constants below are frozen into the cached
 machine code, and numba only notices changes to the kernels' own source
-file. After changing a constant here, also edit (or touch) ``kernels.py``
-or delete its ``__pycache__`` entries.
+files. This module is one of :data:`prepkit.simulation.kernels.COMPILED`:
+after changing it, update :data:`~prepkit.simulation.kernels.KERNEL_SOURCES`
+in each of them (tests/simulation/test_kernel_sources.py gives the value).
 """
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
+from types import MappingProxyType
 
 import numpy as np
 from numpy.typing import NDArray
@@ -144,8 +147,12 @@ N_BAND_FIELDS = 11
 ) = range(13)
 N_SCALARS = 13
 
+UINT = np.uint64
+"""Index type of the hot loops: numba tests signed indices for wrap-around, unsigned ones not."""
+
+
 N_SETTINGS = len(SETTINGS)
-SETTING_INDEX: dict[str, int] = {name: i for i, name in enumerate(SETTINGS)}
+SETTING_INDEX: Mapping[str, int] = MappingProxyType({name: i for i, name in enumerate(SETTINGS)})
 
 # intervention table columns
 IT_KIND = 0
@@ -169,23 +176,23 @@ START_DATE, START_WARD, START_ICU, START_ADMISSIONS = 0, 1, 2, 3
 END_HORIZON, END_DATE, END_DURATION, END_RELEASE = 0, 1, 2, 3
 STATUS_WAITING, STATUS_ACTIVE, STATUS_FINISHED = 0, 1, 2
 
-KIND_CODES = {
+KIND_CODES: Mapping[str, int] = MappingProxyType({
     "contacts": KIND_CONTACTS,
     "vaccination": KIND_VACCINATION,
     "isolation": KIND_ISOLATION,
-}
-START_CODES = {
+})
+START_CODES: Mapping[str, int] = MappingProxyType({
     "date": START_DATE,
     "ward_occupancy": START_WARD,
     "icu_occupancy": START_ICU,
     "admissions": START_ADMISSIONS,
-}
-END_CODES = {
+})
+END_CODES: Mapping[str, int] = MappingProxyType({
     "horizon": END_HORIZON,
     "date": END_DATE,
     "duration": END_DURATION,
     "release": END_RELEASE,
-}
+})
 
 # capacity array used by triggers
 CAP_CATCHMENT, CAP_WARD_AVAILABLE, CAP_ICU_AVAILABLE = 0, 1, 2

@@ -70,12 +70,10 @@ def isolation_multiplier(
     ----------
     isolated_share : float
         Share of cases isolated, compliance included [fraction].
-    delay_days : float
-        Days from symptom onset to isolation [days].
-    mean_days : float
-        Mean infectious period from onset [days].
-    stages : int
-        Erlang stage count of the infectious period.
+    delay_days, mean_days, stages : float, float, int
+        Days from onset to isolation [days], mean infectious period from
+        onset [days] and its Erlang stage count, as for
+        :func:`share_before_isolation`.
 
     Returns
     -------

@@ -1,174 +1,272 @@
-"""The transmission scale beta from R0, a doubling time or a growth rate, for one run or many draws.
+"""The linearised infected subsystem and its next-generation matrix, from the model itself.
 
-With everybody susceptible, no measures and season 1, the next-generation
-matrix on new infections of each band is
-``K_ij = beta sigma_i N_i C_ij / N_j w_j``, where ``C`` is the sum of the
-setting contact matrices and ``w_j`` is the infectious pressure-time one
-new infection of band ``j`` produces:
-``w_j = rho (1 - p_j) D + (p_j - h_j) D + h_j D_P,j`` (``D`` the mean
-infectious period, ``D_P,j`` the mean onset-to-admission delay). For a
-target growth rate ``r`` every residence time is discounted by
-``exp(-r t)``: a chain of ``q`` stages at rate ``g`` contributes
-``sum_{s<q} (g / (g + r))^s / (g + r)`` and the latent chain multiplies by
-``(lat / (lat + r))^m``; at ``r = 0`` this is the R0 case. Then
-``beta = R0 / rho(K(1))`` or ``beta = 1 / rho(K_r(1))``: the numbers
-:func:`prepkit.simulation.transmissibility.beta_for_r0` and
-:func:`~prepkit.simulation.transmissibility.beta_for_growth_rate` give from the
-full infected subsystem, for one run (:func:`prepkit.simulation.compile.compile_model`)
-or thousands of draws at once (the ensemble) by the same function.
+Equations in words
+------------------
+Near the disease-free state the infected compartments (latent ``E``,
+``EV``; infectious ``A``, ``Y``, ``P``) follow a linear system
+``x' = (F - V) x``: ``F`` holds the new infections (only into the first
+latent stage, unprotected ``E_1`` and protected ``EV_1``), ``V`` every
+other transition (stage progressions, the split at the end of latency and
+leaving the infected subsystem by recovery or admission). Both are built
+here from the same parameter vector the kernels use, so the numbers below
+belong to the model that is simulated.
 
-References
-----------
-Diekmann O., Heesterbeek J.A.P., Metz J.A.J. (1990). On the definition
-and the computation of the basic reproduction ratio R0 in models for
-infectious diseases in heterogeneous populations. J. Math. Biol.
-28:365-382. doi:10.1007/BF00178324
-
-Wallinga J., Lipsitch M. (2007). How generation intervals shape the
-relationship between growth rates and reproductive numbers. Proc. R.
-Soc. B 274:599-604. doi:10.1098/rspb.2006.3754
+* Next-generation matrix ``K = F V^-1`` (restricted to the entry states);
+  its spectral radius is the reproduction number.
 """
 
 from __future__ import annotations
 
-import math
+from dataclasses import dataclass
 
-import numba
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import NDArray
+from scipy.linalg import solve_triangular
 
-from prepkit.errors import ModelError
 from prepkit.simulation.layout import (
+    BLK_A,
+    BLK_E,
+    BLK_EV,
+    BLK_P,
+    BLK_Y,
+    INFECTED_BLOCKS,
     N_SETTINGS,
+    P_ADMIT,
+    P_ADMIT_PROTECTED,
     P_POP,
     P_SUSCEPTIBILITY,
+    P_SYMPTOMATIC,
     P_WAIT_RATE,
+    S_BETA,
+    S_INFECTIOUS_RATE,
+    S_LATENT_RATE,
     S_RHO,
+    S_VE_INFECTION,
     StateLayout,
     matrix_offset,
     scalar_offset,
 )
-from prepkit.simulation.threads import in_threads
-from prepkit.simulation.transmissibility import NOBODY_INFECTS, transmission_is_finite
-
-EIG_CHUNK = 2048
-"""Most draws whose next-generation matrices :func:`beta_for_targets` stacks at once (over all
-threads)."""
 
 
-def discounted_residence(
-    rate: NDArray[np.float64], stages: int, r: NDArray[np.float64]
-) -> NDArray[np.float64]:
-    """Expected ``exp(-r t)``-weighted time in a chain of ``stages`` stages at ``rate`` [days]."""
-    shifted = rate + r
-    ratio = rate / shifted
-    out = np.zeros(shifted.shape)
-    term = 1.0 / shifted
-    for _ in range(stages):
-        out = out + term
-        term = term * ratio
+@dataclass(frozen=True)
+class _Positions:
+    """Where each stage of each band sits in the infected subsystem."""
+
+    offsets: dict[int, int]
+    bands: int
+
+    @property
+    def size(self) -> int:
+        return self.offsets[-1]
+
+    def at(self, block: int, stage: int, band: int) -> int:
+        return self.offsets[block] + stage * self.bands + band
+
+
+def _subsystem_offsets(layout: StateLayout) -> dict[int, int]:
+    """Offset of each infected block in the subsystem; ``-1`` holds its size."""
+    out: dict[int, int] = {}
+    pos = 0
+    for block in INFECTED_BLOCKS:
+        out[block] = pos
+        pos += layout.stages(block) * layout.bands
+    out[-1] = pos
     return out
 
 
-def target_growth_rates(measure: str, target: NDArray[np.float64]) -> NDArray[np.float64]:
-    """Growth rate each target asks for [1/day]: 0 for R0, ``ln 2 / T_d`` for a doubling time."""
-    if measure == "doubling_time":
-        if np.any(target <= 0.0):
-            raise ModelError(f"doubling time must be positive, found {target.min():.4g} days")
-        return np.asarray(math.log(2.0) / target, dtype=np.float64)
-    if measure == "growth_rate":
-        return target
-    return np.zeros_like(target)
-
-
-def _unit_radius(base: NDArray[np.float64], weights: NDArray[np.float64]) -> NDArray[np.float64]:
-    """Spectral radius of ``base * weights[d]`` (columns scaled) for every row ``d``."""
-
-    def spectral_radius(rows: slice) -> NDArray[np.float64]:
-        ngm = base[None, :, :] * weights[rows, None, :]
-        return np.asarray(np.max(np.abs(np.linalg.eigvals(ngm)), axis=1), dtype=np.float64)
-
-    # chunks keep the stacked matrices small: at most EIG_CHUNK draws at once over all
-    # threads (LAPACK releases the GIL); each chunk is computed exactly as on its own
-    n_rows = weights.shape[0]
-    threads = max(1, numba.get_num_threads())
-    count = threads * math.ceil(n_rows / EIG_CHUNK)
-    edges = np.linspace(0, n_rows, count + 1).astype(int)
-    parts = [slice(a, b) for a, b in zip(edges[:-1], edges[1:], strict=True)]
-    return np.concatenate(in_threads(spectral_radius, parts)) if parts else np.empty(0)
-
-
-def beta_for_targets(
+def infected_subsystem(
     pc: NDArray[np.float64],
     layout: StateLayout,
-    measure: str,
-    target: ArrayLike,
-    symptomatic: ArrayLike,
-    admitted: ArrayLike,
-    latent_rate: ArrayLike,
-    infectious_rate: ArrayLike,
-) -> NDArray[np.float64]:
-    """Transmission scale of each draw (or of the one run) from its transmissibility measure.
+    *,
+    beta: float | None = None,
+    unprotected_share: NDArray[np.float64] | None = None,
+    protected_share: NDArray[np.float64] | None = None,
+    contact_multipliers: NDArray[np.float64] | None = None,
+    symptomatic_multiplier: float = 1.0,
+    waiting_multiplier: NDArray[np.float64] | None = None,
+    season: float = 1.0,
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.int64]]:
+    """Transmission and transition matrices of the linearised infected subsystem.
 
     Parameters
     ----------
     pc : ndarray
-        A parameter vector of the run (fixes contacts, populations,
-        susceptibility, asymptomatic infectiousness and onset-to-admission
-        delays; its beta is ignored).
+        Parameter vector of the compiled model.
     layout : StateLayout
-        State layout (stage counts).
-    measure : {"r0", "doubling_time", "growth_rate"}
-        Measure of ``target``.
-    target : array, shape (draws,)
-        R0 [dimensionless], doubling time [days] or growth rate [1/day].
-    symptomatic, admitted : array, shape (draws, bands)
-        Symptomatic and admitted shares [fraction] (admitted cut to symptomatic).
-    latent_rate, infectious_rate : array, shape (draws,)
-        Latent and infectious stage rates [1/day].
+        State layout.
+    beta : float, optional
+        Transmission scale [per contact]; default the one in ``pc``.
+    unprotected_share : ndarray, optional
+        Per band, share of the population susceptible and unprotected
+        (``(S + V0) / N``) [fraction]; default 1.
+    protected_share : ndarray, optional
+        Per band, share protected by vaccine (``V / N``) [fraction]; default 0.
+    contact_multipliers : ndarray, optional
+        Multiplier of each setting's contacts [fraction]; default 1.
+    symptomatic_multiplier : float
+        Isolation multiplier of symptomatic people at home [fraction].
+    waiting_multiplier : ndarray, optional
+        Per band isolation multiplier of people waiting for admission.
+    season : float
+        Seasonal multiplier [dimensionless].
 
     Returns
     -------
-    ndarray, shape (draws,)
-        beta [per contact].
+    F : ndarray
+        New-infection matrix [1/day].
+    V : ndarray
+        Transition matrix [1/day].
+    entries : ndarray of int
+        Rows of ``F`` that can be non-zero (first latent stages).
 
-    Raises
-    ------
-    ModelError
-        When a doubling time is not positive, a growth rate is out of reach,
-        or nobody can infect anybody.
+    References
+    ----------
+    van den Driessche P., Watmough J. (2002). Reproduction numbers and
+    sub-threshold endemic equilibria for compartmental models of disease
+    transmission. Mathematical Biosciences 180:29-48.
+    doi:10.1016/S0025-5564(02)00108-6
     """
     nb = layout.bands
     sc = scalar_offset(nb)
-    goal = np.asarray(target, dtype=np.float64)
-    rates = target_growth_rates(measure, goal)
+    b = pc[sc + S_BETA] if beta is None else beta
+    s_share = np.ones(nb) if unprotected_share is None else np.asarray(unprotected_share)
+    v_share = np.zeros(nb) if protected_share is None else np.asarray(protected_share)
+    mult = np.ones(N_SETTINGS) if contact_multipliers is None else contact_multipliers
+    iso_p = np.ones(nb) if waiting_multiplier is None else waiting_multiplier
+    pos = _Positions(_subsystem_offsets(layout), nb)
+    f_mat = _new_infections(
+        pc, layout, pos, b, s_share, v_share, mult, symptomatic_multiplier, iso_p, season
+    )
+    v_mat = _transitions(pc, layout, pos)
+    entries = np.array(
+        [pos.at(BLK_E, 0, i) for i in range(nb)] + [pos.at(BLK_EV, 0, i) for i in range(nb)],
+        dtype=np.int64,
+    )
+    return f_mat, v_mat, entries
+
+
+def _new_infections(
+    pc: NDArray[np.float64],
+    layout: StateLayout,
+    pos: _Positions,
+    b: float,
+    s_share: NDArray[np.float64],
+    v_share: NDArray[np.float64],
+    mult: NDArray[np.float64],
+    symptomatic_multiplier: float,
+    iso_p: NDArray[np.float64],
+    season: float,
+) -> NDArray[np.float64]:
+    """The new-infection matrix ``F`` of :func:`infected_subsystem` [1/day]."""
+    nb = layout.bands
+    sc = scalar_offset(nb)
     pop = pc[P_POP * nb : (P_POP + 1) * nb]
     sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
-    wait_rate = pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb]
+    rho = pc[sc + S_RHO]
+    ve = pc[sc + S_VE_INFECTION]
     mo = matrix_offset(nb)
-    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
-    base = (sigma * pop)[:, None] * contacts / pop[None, :]
+    base = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb)
+    contacts = np.tensordot(mult, base, axes=1)
+    n, k = layout.infectious_stages, layout.wait_stages
+    at = pos.at
 
-    p_sym = np.asarray(symptomatic, dtype=np.float64)
-    h = np.minimum(np.asarray(admitted, dtype=np.float64), p_sym)
-    lat = np.asarray(latent_rate, dtype=np.float64)
-    inf = np.asarray(infectious_rate, dtype=np.float64)
-    slowest = np.minimum(np.minimum(lat, inf), float(np.min(wait_rate)))
-    if np.any(rates <= -slowest):
-        worst = int(np.argmin(rates + slowest))
-        raise ModelError(
-            f"growth rate {float(rates[worst]):.4g}/day is below what any transmission can "
-            f"give (-{float(slowest[worst]):.4g}/day)"
-        )
-    latent = (lat / (lat + rates)) ** layout.latent_stages
-    at_home = discounted_residence(inf, layout.infectious_stages, rates)
-    waiting = discounted_residence(wait_rate[None, :], layout.wait_stages, rates[:, None])
-    weights = latent[:, None] * (
-        (pc[sc + S_RHO] * (1.0 - p_sym) + (p_sym - h)) * at_home[:, None] + h * waiting
-    )
-    unit = _unit_radius(base, weights)
-    with np.errstate(divide="ignore", over="ignore"):
-        beta = (goal if measure == "r0" else np.ones_like(goal)) / unit
-    if np.any(unit <= 0.0) or not np.all(transmission_is_finite(beta, pc, layout)):
-        raise ModelError(NOBODY_INFECTS)
-    return np.asarray(beta, dtype=np.float64)
+    f_mat = np.zeros((pos.size, pos.size))
+    per_contact = b * season * (sigma * pop)[:, None] * contacts / pop[None, :]
+    for i in range(nb):
+        for row_share, block in ((s_share[i], BLK_E), ((1.0 - ve) * v_share[i], BLK_EV)):
+            if row_share == 0.0:
+                continue
+            row = at(block, 0, i)
+            for j in range(nb):
+                coef = row_share * per_contact[i, j]
+                for s in range(n):
+                    f_mat[row, at(BLK_A, s, j)] += coef * rho
+                    f_mat[row, at(BLK_Y, s, j)] += coef * symptomatic_multiplier
+                for s in range(k):
+                    f_mat[row, at(BLK_P, s, j)] += coef * iso_p[j]
+    return f_mat
+
+
+def _transitions(
+    pc: NDArray[np.float64], layout: StateLayout, pos: _Positions
+) -> NDArray[np.float64]:
+    """The transition matrix ``V`` of :func:`infected_subsystem` [1/day]."""
+    nb = layout.bands
+    sc = scalar_offset(nb)
+    p_sym = pc[P_SYMPTOMATIC * nb : (P_SYMPTOMATIC + 1) * nb]
+    h = pc[P_ADMIT * nb : (P_ADMIT + 1) * nb]
+    hv = pc[P_ADMIT_PROTECTED * nb : (P_ADMIT_PROTECTED + 1) * nb]
+    wait_rate = pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb]
+    lat = pc[sc + S_LATENT_RATE]
+    inf = pc[sc + S_INFECTIOUS_RATE]
+    m, n, k = layout.latent_stages, layout.infectious_stages, layout.wait_stages
+    at = pos.at
+    v_mat = np.zeros((pos.size, pos.size))
+
+    def chain(block: int, stages: int, rate: float, band: int) -> int:
+        for s in range(stages):
+            here = at(block, s, band)
+            v_mat[here, here] += rate
+            if s + 1 < stages:
+                v_mat[at(block, s + 1, band), here] -= rate
+        return at(block, stages - 1, band)
+
+    for i in range(nb):
+        for block, adm in ((BLK_E, h[i]), (BLK_EV, hv[i])):
+            last = chain(block, m, lat, i)
+            v_mat[at(BLK_A, 0, i), last] -= (1.0 - p_sym[i]) * lat
+            v_mat[at(BLK_Y, 0, i), last] -= (p_sym[i] - adm) * lat
+            v_mat[at(BLK_P, 0, i), last] -= adm * lat
+        chain(BLK_A, n, inf, i)
+        chain(BLK_Y, n, inf, i)
+        chain(BLK_P, k, float(wait_rate[i]), i)
+    return v_mat
+
+
+def solve_transitions(v_mat: NDArray[np.float64], rhs: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Solve ``V x = rhs``; ``V`` is lower triangular in the subsystem's stage order."""
+    if not np.any(np.triu(v_mat, 1)):
+        return np.asarray(solve_triangular(v_mat, rhs, lower=True), dtype=np.float64)
+    return np.asarray(np.linalg.solve(v_mat, rhs), dtype=np.float64)
+
+
+def next_generation_matrix(
+    f_mat: NDArray[np.float64], v_mat: NDArray[np.float64], entries: NDArray[np.int64]
+) -> NDArray[np.float64]:
+    """Next-generation matrix on the entry states, ``(F V^-1)[entries, entries]``.
+
+    Parameters
+    ----------
+    f_mat, v_mat : ndarray
+        Matrices from :func:`infected_subsystem` [1/day].
+    entries : ndarray of int
+        Entry states.
+
+    Returns
+    -------
+    ndarray
+        ``K[a, b]`` expected new infections entering state ``a`` caused by
+        one infected person entering state ``b`` [dimensionless].
+
+    References
+    ----------
+    Diekmann O., Heesterbeek J.A.P., Metz J.A.J. (1990). On the definition
+    and the computation of the basic reproduction ratio R0 in models for
+    infectious diseases in heterogeneous populations. J. Math. Biol.
+    28:365-382. doi:10.1007/BF00178324
+    """
+    unit = np.zeros((v_mat.shape[0], entries.size))
+    unit[entries, np.arange(entries.size)] = 1.0
+    return np.asarray(f_mat[entries, :] @ solve_transitions(v_mat, unit), dtype=np.float64)
+
+
+def spectral_radius(matrix: NDArray[np.float64]) -> float:
+    """Largest absolute eigenvalue."""
+    if matrix.size == 0:
+        return 0.0
+    return float(np.max(np.abs(np.linalg.eigvals(matrix))))
+
+
+def spectral_abscissa(matrix: NDArray[np.float64]) -> float:
+    """Largest real part of the eigenvalues."""
+    return float(np.max(np.linalg.eigvals(matrix).real))

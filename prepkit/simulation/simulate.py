@@ -2,14 +2,14 @@
 
 Equations in words
 ------------------
-The equations are those of :mod:`prepkit.simulation.kernels`. Parameters change
+The equations are those of :mod:`prepkit.simulation.flows`. Parameters change
 only at day boundaries: at the start of each day the decisions (triggers,
 intervention start and end, dose allocation) are taken from the state at
 the boundary and the previous day's admissions, then the day is
 integrated with those parameters held fixed (the season still varies
 smoothly). The production integrator takes equal classical RK4 steps
 within a day, as many as the step rule of
-:func:`prepkit.simulation.kernels.advance_day` asks (at least the model's
+:func:`prepkit.simulation.step_rule.advance_day` asks (at least the model's
 fewest), and checks the run (:mod:`prepkit.simulation.health`); the reference
 integrates each day with scipy's DOP853 at tight tolerances and takes the
 same decisions from its own state.
@@ -25,10 +25,13 @@ from scipy.integrate import solve_ivp
 
 from prepkit.errors import ModelError
 from prepkit.simulation.compile import CompiledModel
+from prepkit.simulation.decisions import decide_day
 from prepkit.simulation.diagnose import run_error
+from prepkit.simulation.flows import rhs
 from prepkit.simulation.health import failed_check, most_substeps
-from prepkit.simulation.kernels import REPORT_SIZE, decide_day, rhs, run_days
+from prepkit.simulation.kernels import run_days
 from prepkit.simulation.layout import S_GROWTH_STEP, STATUS_ACTIVE, daily_size, scalar_offset
+from prepkit.simulation.run_checks import REPORT_SIZE
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -137,12 +140,8 @@ def simulate_reference(
 
     Parameters
     ----------
-    model : CompiledModel
-        The run.
-    y0 : ndarray, optional
-        State at day 0; default the model's.
-    days : int, optional
-        Days to simulate [days]; default the plan horizon.
+    model, y0, days
+        The run, its state at day 0 and its days [days], as for :func:`simulate`.
     rtol : float
         Relative tolerance of DOP853.
     atol_per_person : float

@@ -4,14 +4,14 @@ Equations in words
 ------------------
 The model is the one of :mod:`prepkit.simulation.kernels`; every draw is run by
 :func:`prepkit.simulation.kernels.run_draws`, which repeats the single-run loop
-(:func:`~prepkit.simulation.kernels.decide_day` then
-:func:`~prepkit.simulation.kernels.advance_day`, day by day, with the same step
+(:func:`~prepkit.simulation.decisions.decide_day` then
+:func:`~prepkit.simulation.step_rule.advance_day`, day by day, with the same step
 rule) for each draw on its own flat state, in parallel over draws, and
 checks every draw as a single run is checked (:mod:`prepkit.simulation.health`):
 a draw that fails stops the ensemble with an error naming its inputs.
 
 ``beta`` is calibrated per draw by
-:func:`prepkit.simulation.next_generation.beta_for_targets`, the function the
+:func:`prepkit.simulation.beta_scaling.beta_for_targets`, the function the
 single run's :func:`prepkit.simulation.compile.compile_model` calls too.
 """
 
@@ -25,15 +25,16 @@ from numpy.typing import NDArray
 
 from prepkit.metrics.absence import employed_weights
 from prepkit.plan import Plan
+from prepkit.simulation.beta_scaling import beta_for_targets
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.diagnose import draw_error
 from prepkit.simulation.health import failed_rows, most_substeps
-from prepkit.simulation.kernels import REPORT_SIZE, run_draws
+from prepkit.simulation.kernels import run_draws
 from prepkit.simulation.layout import (
     S_GROWTH_STEP,
     scalar_offset,
 )
-from prepkit.simulation.next_generation import beta_for_targets
+from prepkit.simulation.run_checks import REPORT_SIZE
 from prepkit.simulation.threads import use_all_cores
 from prepkit.uncertainty.draws import (
     FINAL_NAMES,
@@ -69,7 +70,7 @@ def calibrate_beta(
     -------
     ndarray, shape (draws,)
         beta of each draw [per contact], or the ModelError of
-        :func:`~prepkit.simulation.next_generation.beta_for_targets`.
+        :func:`~prepkit.simulation.beta_scaling.beta_for_targets`.
 
     References
     ----------

@@ -7,13 +7,11 @@ from factories import compiled, make_plan
 from numpy.testing import assert_allclose
 
 from prepkit.simulation.contacts import preferential_mixing
-from prepkit.simulation.kernels import decide_day, rhs
+from prepkit.simulation.decisions import decide_day
+from prepkit.simulation.flows import rhs
 from prepkit.simulation.layout import BLK_E, BLK_S, BLK_V, BLK_W, daily_size
-from prepkit.simulation.transmissibility import (
-    infected_subsystem,
-    next_generation_matrix,
-    reproduction_number,
-)
+from prepkit.simulation.next_generation import infected_subsystem, next_generation_matrix
+from prepkit.simulation.transmissibility import reproduction_number
 
 POPS = (2e5, 4e5, 3e5, 1e5)
 SYM = (0.3, 0.6, 0.8, 0.9)

@@ -127,36 +127,7 @@ def plans(draw: Any, *, most_bands: int, longest: int, width: bool = False) -> P
     seeded_share = min(draw(number("disease.initial_infections")) / sum(people), 1.0)
     seeded = sum(people) * min(seeded_share, 1.0 - max(prior)) * (1 - 1e-9)
     amplitude = draw(number("disease.seasonal_amplitude"))
-    measures = []
-    if draw(st.booleans()):
-        level = draw(number("measure.start_level"))
-        measures.append(contact_measure(
-            "distancing",
-            kept={s: draw(number(f"measure.{s}_kept"))
-                  for s in ("home", "school", "work", "community")},
-            compliance=draw(number("measure.compliance")),
-            start=Start(kind=draw(st.sampled_from(["ward_occupancy", "admissions"])),
-                        level=level),
-            end=End(kind="release", level=level * draw(st.floats(0.0, 1.0))),
-        ))
-    if draw(st.booleans()):
-        efficacy = draw(number("measure.efficacy_infection"))
-        measures.append(vaccination_measure(
-            doses_per_day=draw(number("measure.doses_per_day")),
-            priority=tuple(draw(st.permutations(range(bands)))),
-            uptake=draw(number("measure.uptake_ceiling")),
-            efficacy_infection=efficacy,
-            efficacy_severe=efficacy + (1 - efficacy) * draw(st.floats(0.0, 1.0)),
-            days_to_protection=draw(number("measure.days_to_protection")),
-            compliance=draw(number("measure.compliance")),
-            start=Start(kind="date", date=DAY0 + dt.timedelta(days=draw(st.integers(0, 30)))),
-        ))
-    if draw(st.booleans()):
-        measures.append(isolation_measure(
-            isolated_share=draw(number("measure.isolated_share")),
-            days_from_onset=draw(number("measure.days_from_onset")),
-            compliance=draw(number("measure.compliance")),
-        ))
+    measures = _draw_measures(draw, bands)
     return make_plan(
         populations=people,
         r0=spread if measure == "disease.r0" else None,
@@ -194,6 +165,41 @@ def plans(draw: Any, *, most_bands: int, longest: int, width: bool = False) -> P
         horizon=draw(st.integers(int(span("details.horizon_days")[0]), longest)),
         interventions=measures,
     )
+
+
+def _draw_measures(draw: Any, bands: int) -> list[Any]:
+    """Up to one measure of each kind, drawn in the order :func:`plans` always drew them."""
+    measures = []
+    if draw(st.booleans()):
+        level = draw(number("measure.start_level"))
+        measures.append(contact_measure(
+            "distancing",
+            kept={s: draw(number(f"measure.{s}_kept"))
+                  for s in ("home", "school", "work", "community")},
+            compliance=draw(number("measure.compliance")),
+            start=Start(kind=draw(st.sampled_from(["ward_occupancy", "admissions"])),
+                        level=level),
+            end=End(kind="release", level=level * draw(st.floats(0.0, 1.0))),
+        ))
+    if draw(st.booleans()):
+        efficacy = draw(number("measure.efficacy_infection"))
+        measures.append(vaccination_measure(
+            doses_per_day=draw(number("measure.doses_per_day")),
+            priority=tuple(draw(st.permutations(range(bands)))),
+            uptake=draw(number("measure.uptake_ceiling")),
+            efficacy_infection=efficacy,
+            efficacy_severe=efficacy + (1 - efficacy) * draw(st.floats(0.0, 1.0)),
+            days_to_protection=draw(number("measure.days_to_protection")),
+            compliance=draw(number("measure.compliance")),
+            start=Start(kind="date", date=DAY0 + dt.timedelta(days=draw(st.integers(0, 30)))),
+        ))
+    if draw(st.booleans()):
+        measures.append(isolation_measure(
+            isolated_share=draw(number("measure.isolated_share")),
+            days_from_onset=draw(number("measure.days_from_onset")),
+            compliance=draw(number("measure.compliance")),
+        ))
+    return measures
 
 
 def fastest_possible_rate(model: CompiledModel) -> float:
