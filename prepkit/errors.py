@@ -203,12 +203,6 @@ class OutputError(OSError, PrepkitError):
         return self.strerror or super().__str__()
 
 
-# ---- Errors of the output files, the report and the run -----------------------------------------
-# (moved here from pipeline/outputs.py, pipeline/manifest.py, pipeline/run.py, pipeline/watch.py,
-# report/render.py and report/safety.py; each names its field or path, what was expected and
-# what was found)
-
-
 class SourceDateError(ValueError, PrepkitError):
     """``SOURCE_DATE_EPOCH`` is set but is not a whole number of seconds.
 

@@ -33,14 +33,6 @@ LAYERS: tuple[tuple[str, ...], ...] = (
 
 LEVEL = {stage: number for number, stages in enumerate(LAYERS) for stage in stages}
 
-#: Imports from a later layer in modules other engineers are changing in this issue,
-#: module -> reason; each is listed in the report of the layer redesign.
-KNOWN: dict[str, str] = {
-    "prepkit.simulation.diagnose": "names uncertainty.ensemble.DrawValues under TYPE_CHECKING; "
-    "the simulation stage's owner moves that type down",
-}
-
-
 def _module_name(path: Path, root: Path = ROOT) -> str:
     parts = list(path.relative_to(root.parent).with_suffix("").parts)
     if parts[-1] == "__init__":
@@ -117,9 +109,7 @@ def test_the_check_sees_imports_inside_functions_and_type_checking(tmp_path: Pat
 @pytest.mark.parametrize(
     "path",
     [
-        pytest.param(path, id=_module_name(path),
-                     marks=[pytest.mark.xfail(reason=KNOWN[_module_name(path)], strict=True)]
-                     if _module_name(path) in KNOWN else [])
+        pytest.param(path, id=_module_name(path))
         for path in MODULES
     ],
 )

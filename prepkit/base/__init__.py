@@ -1,1 +1,1 @@
-"""base stage."""
+"""Low-level helpers every stage may use: atomic files, JSON values, counting words, cell text."""

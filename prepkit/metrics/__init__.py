@@ -1,1 +1,1 @@
-"""metrics stage."""
+"""Planning metrics on a daily series or a draws x days array: beds, surge, absence, peaks."""

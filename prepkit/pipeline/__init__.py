@@ -1,1 +1,1 @@
-"""pipeline stage."""
+"""One run from workbook to briefing pack: files, guards, manifest, summary, watch."""

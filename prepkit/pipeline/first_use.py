@@ -30,7 +30,8 @@ def kernels_need_compiling() -> bool:
     in its cache (index files ``*.nbi`` in ``__pycache__`` beside
     ``kernels.py``, or under ``NUMBA_CACHE_DIR``). An index counts only when
     it was written for this numba version and this ``kernels.py`` (numba
-    keys it on the source file's time stamp and size). Nothing is compiled
+    checks it against that file only; :mod:`prepkit.simulation.kernels` says what
+    this means for the other compiled modules). Nothing is compiled
     or written here.
 
     Returns

@@ -1,1 +1,1 @@
-"""report subpackage."""
+"""Everything the planner reads: the pack's words, charts, HTML and PDF, and results.xlsx."""

@@ -1,1 +1,1 @@
-"""scenarios stage."""
+"""Each scenario of a plan with and without its measures: the public run API."""

@@ -20,6 +20,15 @@ spreading the reduction evenly over the infectious period.
 For ``T ~ Gamma(q, s)`` with ``s = T_mean / q``:
 ``E[min(T, d)] = q s G_{q+1}(d / s) + d (1 - G_q(d / s))`` where ``G_a`` is
 the regularised lower incomplete gamma function.
+
+References
+----------
+Hurtado P.J., Kirosingh A.S. (2019). Generalizations of the 'Linear Chain
+Trick': incorporating more flexible dwell time distributions into mean field
+ODE models. J. Math. Biol. 79:1831-1883. doi:10.1007/s00285-019-01412-w
+
+Fraser C., Riley S., Anderson R.M., Ferguson N.M. (2004). Factors that make an
+infectious disease outbreak controllable. PNAS 101:6146-6151.
 """
 
 from __future__ import annotations

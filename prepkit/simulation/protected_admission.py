@@ -6,6 +6,12 @@ protected *infections* the admitted share is
 ``h_v = min(p, h (1 - VE_sev) / (1 - VE_inf))`` (``p`` the symptomatic share,
 ``h`` the admitted share, already cut to ``p``); 0 when ``VE_inf = 1``
 (nobody protected is infected).
+
+References
+----------
+Halloran M.E., Haber M., Longini I.M., Struchiner C.J. (1991). Direct and
+indirect effects in vaccine efficacy and effectiveness. Am. J. Epidemiol.
+133:323-331 (the leaky model of vaccine action).
 """
 
 from __future__ import annotations

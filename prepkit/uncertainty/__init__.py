@@ -1,1 +1,1 @@
-"""uncertainty stage."""
+"""The uncertainty ensemble: sampled inputs through the same model and rules as one run."""

@@ -26,6 +26,8 @@ from fuzz_cells import load_bases  # noqa: E402
 
 import prepkit.scenarios.runs  # noqa: E402
 
+pytestmark = pytest.mark.slow  # runs the whole-job fuzzer
+
 BASES = ("small_plan", "tamsett_hollow")
 COUNT = 12
 INJECTED = 5

@@ -59,6 +59,8 @@ from prepkit.scenarios.runs import run_plan
 from prepkit.workbook.reader import read_plan
 from prepkit.workbook.template import write_workbook
 
+pytestmark = pytest.mark.slow  # renders whole packs
+
 EPOCH = "1700000000"
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"
 ENSEMBLE_DRAWS = 40

@@ -29,6 +29,8 @@ from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.plan import Plan
 from prepkit.workbook.template import write_workbook
 
+pytestmark = pytest.mark.slow  # subprocess runs of the command line
+
 ENTRY = "from prepkit.cli.main import entry; entry()"
 
 

@@ -24,6 +24,8 @@ from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook import schema
 from prepkit.workbook.reader import read_plan
 
+pytestmark = pytest.mark.slow  # runs ensembles to measure their memory
+
 # ---- Draws -----------------------------------------------------------------------------------
 
 

@@ -31,6 +31,8 @@ from prepkit.pipeline.outputs_guard import check_summary_path, is_inside, same_f
 from prepkit.pipeline.pack_folder import check_output_dir
 from prepkit.workbook.template import write_workbook
 
+pytestmark = pytest.mark.slow  # whole runs against guarded paths
+
 OLD_PACK = {"briefing-pack.pdf": b"%PDF old", "results.xlsx": b"PK old",
             "charts/a.svg": b"<svg/>"}
 

@@ -24,6 +24,8 @@ from prepkit.pipeline import jobs
 from prepkit.plan import Plan
 from prepkit.workbook.template import write_workbook
 
+pytestmark = pytest.mark.slow  # starts and kills worker processes
+
 ENTRY = "from prepkit.cli.main import entry; entry()"
 
 

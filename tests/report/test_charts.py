@@ -30,6 +30,8 @@ from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
+pytestmark = pytest.mark.slow  # draws every chart of a pack
+
 matplotlib.use("Agg")
 
 

@@ -27,6 +27,8 @@ from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.workbook.reader import read_plan
 
+pytestmark = pytest.mark.slow  # renders both samples' packs
+
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"
 DRAWS = 40
 

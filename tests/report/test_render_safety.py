@@ -43,6 +43,8 @@ from prepkit.report.safety import (
     write_text_row,
 )
 
+pytestmark = pytest.mark.slow  # renders PDFs in fresh processes
+
 matplotlib.use("Agg")
 
 BASE_CONTEXT: dict[str, Any] = {

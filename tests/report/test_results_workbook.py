@@ -39,6 +39,8 @@ from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.uncertainty.results import SUMMARY_METRICS
 from prepkit.uncertainty.summary_json import uncertainty_summary_dict
 
+pytestmark = pytest.mark.slow  # writes results workbooks of full runs
+
 WHEN = dt.datetime(2027, 1, 2, 3, 4, 5, tzinfo=dt.UTC)
 HOSTILE = '=HYPERLINK("http://example.invalid","click")'
 JURISDICTION = "@SUM(1) & Tamsett Hollow"

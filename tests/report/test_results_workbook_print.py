@@ -40,6 +40,8 @@ from prepkit.report.results_workbook_columns_scenarios import (
 from prepkit.report.results_workbook_columns_uncertainty import CHANCE, SENSITIVITY
 from prepkit.scenarios.runs import PlanResults
 
+pytestmark = pytest.mark.slow  # prints with LibreOffice
+
 #: What a header cell must not look like: a machine name.
 IDENTIFIER = re.compile(r"^[a-z0-9]+(_[a-z0-9]+)+$")
 DOTTED = re.compile(r"^\w+(\.\w+)+$")

@@ -59,6 +59,8 @@ from prepkit.uncertainty.draws import DrawValues
 from prepkit.uncertainty.ensemble import simulate_draws
 from prepkit.workbook.schema import FIELDS_BY_NAME, MAX_BANDS
 
+pytestmark = pytest.mark.slow  # hypothesis searches over every input range
+
 REFERENCE_ATOL = (1e-30, 1e-20, 1e-12)
 """Absolute tolerances of the reference, as a share of the smallest band, tightest first
 [fraction]."""

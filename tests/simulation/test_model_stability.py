@@ -44,6 +44,8 @@ from prepkit.uncertainty.run import draw_values, run_ensemble
 from prepkit.workbook import read_plan
 from prepkit.workbook.schema import FIELDS_BY_NAME
 
+pytestmark = pytest.mark.slow  # ensembles against the reference solver
+
 SAMPLE = Path(__file__).parents[2] / "sample_workbooks" / "tamsett_hollow.xlsx"
 
 

@@ -18,6 +18,8 @@ from prepkit.scenarios.runs import run_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.uncertainty.results import UncertaintyResults
 
+pytestmark = pytest.mark.slow  # starts Dask clusters
+
 
 def _assert_same(a: UncertaintyResults, b: UncertaintyResults) -> None:
     assert [s.scenario for s in a.scenarios] == [s.scenario for s in b.scenarios]

@@ -24,6 +24,8 @@ from prepkit.pipeline import run as pipeline
 from prepkit.report.style import chart_rcparams
 from prepkit.workbook.template import write_workbook
 
+pytestmark = pytest.mark.slow  # renders packs of hostile text
+
 BUDGET = "Budget $5m vs $10m"
 TRICKY = {
     "scenario": "=Ward ^peak_ $x$ {{ 1+1 }}",

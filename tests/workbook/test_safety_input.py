@@ -25,6 +25,8 @@ from prepkit.plan import Plan
 from prepkit.workbook.sheets import HOSPITALS, POPULATION
 from prepkit.workbook.template import build_workbook, write_workbook
 
+pytestmark = pytest.mark.slow  # subprocess runs on unreadable inputs
+
 ENTRY = "from prepkit.cli.main import entry; entry()"
 
 

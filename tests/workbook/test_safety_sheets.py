@@ -14,10 +14,13 @@ import sys
 import zipfile
 from pathlib import Path
 
+import pytest
 from conftest import small_plan
 
 from prepkit.workbook import load
 from prepkit.workbook.template import build_workbook
+
+pytestmark = pytest.mark.slow  # builds sheets of millions of cells
 
 SHEET_HEAD = (b'<?xml version="1.0" encoding="UTF-8" standalone="yes"?>'
               b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'

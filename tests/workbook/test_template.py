@@ -347,6 +347,7 @@ _SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
 
 
 @pytest.mark.skipif(_SOFFICE is None, reason="LibreOffice (soffice) is not installed")
+@pytest.mark.slow
 def test_spreadsheet_program_opens_and_resaves_the_workbooks(
         template_path: Path, plan_path: Path, plan: Plan, tmp_path: Path) -> None:
     out = tmp_path / "converted"

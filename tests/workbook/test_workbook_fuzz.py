@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import openpyxl
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from openpyxl.utils.exceptions import IllegalCharacterError
@@ -29,6 +30,8 @@ from prepkit.errors import WorkbookError
 from prepkit.plan import Contacts, Plan
 from prepkit.workbook.reader import read_plan
 from prepkit.workbook.template import build_workbook
+
+pytestmark = pytest.mark.slow  # hundreds of mutated workbooks
 
 MUTATION_KINDS = ("set", "set", "set", "set", "swap", "delete_row", "insert_row",
                   "delete_col", "delete_sheet", "rename_sheet")
