@@ -87,11 +87,6 @@ class InterventionEffect:
     averted_icu_unmet_bed_days_with_surge: float
 
 
-def burden_totals(final: Mapping[str, float]) -> BurdenTotals:
-    """Burden totals from final counter values keyed by :class:`BurdenTotals` field."""
-    return BurdenTotals(**{k: float(v) for k, v in final.items()})
-
-
 def scenario_metrics(
     daily: pd.DataFrame,
     totals: BurdenTotals,

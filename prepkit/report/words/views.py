@@ -313,11 +313,6 @@ def scenario_brief(view: ScenarioView) -> str:
     return " ".join(parts)
 
 
-def measure_timing(view: ScenarioView) -> tuple[str, ...]:
-    """When each of a scenario's measures was in force, one line each."""
-    return tuple(span.text for span in view.measure_spans)
-
-
 def with_ensembles(
     views: Sequence[ScenarioView], uncertainty: UncertaintyResults
 ) -> list[tuple[ScenarioView, EnsembleResult]]:
