@@ -6,7 +6,10 @@ scenarios); its figures are round test numbers, not estimates of anything.
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
+import subprocess
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -143,6 +146,38 @@ def small_plan() -> Plan:
             Observation(date=dt.date(2027, 1, 12), admissions=3.0),
         ),
     )
+
+
+ENTRY = "from prepkit.cli.main import entry; entry()"
+"""The console entry point, run in a fresh interpreter by :func:`run_entry`."""
+
+
+def run_entry(*args: str, env: dict[str, str] | None = None, timeout: float = 120
+              ) -> subprocess.CompletedProcess[str]:
+    """Run ``prepkit ARGS`` in a fresh interpreter and capture its output."""
+    return subprocess.run([sys.executable, "-c", ENTRY, *args], capture_output=True, text=True,
+                          timeout=timeout, check=False, env=env)
+
+
+def quick_plan() -> Plan:
+    """:func:`small_plan` with no draws and a 60-day horizon: a run in well under a second."""
+    plan = small_plan()
+    return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
+                                                                 horizon_days=60))
+
+
+def quick_workbook(folder: Path, plan: Plan | None = None) -> Path:
+    """``plan`` (default :func:`quick_plan`) written as ``folder/plan.xlsx``."""
+    from prepkit.workbook.template import write_workbook
+
+    path = folder / "plan.xlsx"
+    write_workbook(path, plan or quick_plan())
+    return path
+
+
+def assert_no_traceback(text: str) -> None:
+    """Fail when a program's output shows a traceback or an internal error."""
+    assert "Traceback" not in text and "internal error" not in text, text
 
 
 @pytest.fixture

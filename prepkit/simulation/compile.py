@@ -37,6 +37,7 @@ from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
 from prepkit.plan import Plan, Scenario
+from prepkit.simulation.draw_values import DrawValues
 from prepkit.simulation.inputs import ResolvedInputs
 from prepkit.simulation.intervention_table import capacity_array, intervention_table
 from prepkit.simulation.layout import (
@@ -49,11 +50,12 @@ from prepkit.simulation.layout import (
     scalar_offset,
 )
 from prepkit.simulation.parameters import (
-    calibrate_transmission,
     check_durations,
+    draw_parameters,
+    draw_transmission,
+    fixed_parameters,
     initial_state,
     model_layout,
-    parameter_vector,
 )
 from prepkit.simulation.seasonality import season_factor
 from prepkit.simulation.transmissibility import (
@@ -229,9 +231,16 @@ def compile_model(
     vaccines = [item.vaccination for item in items if item.vaccination is not None]
     check_durations(plan, inputs)
     peak_day = seasonal_peak_day(plan.details.day0, disease.seasonal_peak)
-    pc = parameter_vector(plan, inputs, layout, pop, vaccines, peak_day)
-    calibrate_transmission(pc, layout, inputs, disease)
-    itab, iprio = intervention_table(plan, items, inputs, layout)
+    one_run = DrawValues.of_inputs(inputs)
+    base_itab, iprio = intervention_table(plan, items, layout)
+    pcs, itabs = draw_parameters(
+        fixed_parameters(plan, layout, pop, vaccines, peak_day), base_itab, layout, plan, items,
+        one_run,
+    )
+    draw_transmission(
+        pcs, layout, inputs.transmissibility_measure, one_run, disease.seasonal_amplitude
+    )
+    pc, itab = pcs[0], itabs[0]
     cap = capacity_array(plan)
     y0 = initial_state(layout, disease, pop)
 

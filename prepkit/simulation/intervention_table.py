@@ -14,7 +14,6 @@ import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.plan import SETTINGS, Intervention, Plan
-from prepkit.simulation.inputs import ResolvedInputs
 from prepkit.simulation.layout import (
     CAP_CATCHMENT,
     CAP_ICU_AVAILABLE,
@@ -41,16 +40,17 @@ from prepkit.simulation.layout import (
     START_CODES,
     StateLayout,
 )
-from prepkit.simulation.natural_history import isolation_multiplier
+from prepkit.simulation.natural_history import shares_before_isolation
 
 
 def intervention_table(
-    plan: Plan,
-    items: list[Intervention],
-    inputs: ResolvedInputs,
-    layout: StateLayout,
+    plan: Plan, items: list[Intervention], layout: StateLayout
 ) -> tuple[NDArray[np.float64], NDArray[np.int64]]:
-    """The intervention table and the band priority order of a run.
+    """The intervention table and the band priority order of a run, before compliance.
+
+    The columns that depend on compliance (and on the infectious period)
+    are left at "no effect" and written by :func:`compliance_columns`, for
+    the one run and for every draw of the ensemble alike.
 
     Parameters
     ----------
@@ -58,8 +58,6 @@ def intervention_table(
         The plan (dates to model days).
     items : list of Intervention
         The run's interventions, one row each.
-    inputs : ResolvedInputs
-        Numbers picked for the run (compliance, infectious period).
     layout : StateLayout
         Stage counts.
 
@@ -71,17 +69,18 @@ def intervention_table(
         Band priority order per intervention (vaccination), padded with -1.
     """
     nb = layout.bands
-    wait_days = np.array(plan.severity.onset_to_admission_days, dtype=np.float64)
     itab = np.zeros((len(items), IT_FIXED_COLUMNS + nb))
     iprio = np.full((len(items), nb), -1, dtype=np.int64)
     for r, item in enumerate(items):
-        comp = float(inputs.compliance.get(item.name, item.compliance.central))
         row = itab[r]
         _timing_columns(row, item, plan)
         row[IT_MULTIPLIER : IT_MULTIPLIER + N_SETTINGS] = 1.0
         row[IT_ISO_SYMPTOMATIC] = 1.0
         row[IT_ISO_WAITING : IT_ISO_WAITING + nb] = 1.0
-        _measure_columns(row, iprio[r], item, comp, inputs, layout, wait_days)
+        if item.kind == "vaccination" and item.vaccination is not None:
+            row[IT_DOSES] = item.vaccination.doses_per_day
+            order = list(item.vaccination.priority)
+            iprio[r, : len(order)] = order
     return itab, iprio
 
 
@@ -101,37 +100,62 @@ def _timing_columns(row: NDArray[np.float64], item: Intervention, plan: Plan) ->
     row[IT_RELEASE_LEVEL] = item.end.level if item.end.level is not None else -np.inf
 
 
-def _measure_columns(
-    row: NDArray[np.float64],
-    priority: NDArray[np.int64],
+def compliance_columns(
+    itabs: NDArray[np.float64],
+    row: int,
     item: Intervention,
-    comp: float,
-    inputs: ResolvedInputs,
+    compliance: NDArray[np.float64],
+    infectious_days: NDArray[np.float64],
+    plan: Plan,
     layout: StateLayout,
-    wait_days: NDArray[np.float64],
 ) -> None:
-    """Multiplier, dose and isolation columns of one intervention's row (compliance ``comp``)."""
+    """Write the columns of one intervention that depend on compliance, for every draw.
+
+    Parameters
+    ----------
+    itabs : ndarray, shape (draws, interventions, columns)
+        Intervention tables; row ``row`` of each is written.
+    row : int
+        The intervention's row.
+    item : Intervention
+        The intervention.
+    compliance : ndarray, shape (draws,)
+        Compliance of each draw [fraction].
+    infectious_days : ndarray, shape (draws,)
+        Mean infectious period of each draw [days].
+    plan : Plan
+        The plan (onset-to-admission delays).
+    layout : StateLayout
+        Stage counts.
+
+    Notes
+    -----
+    Contact multipliers ``1 - c (1 - kept_s)``, school closure intensity
+    ``c (1 - kept_school)``, dose ceiling ``uptake c`` and isolation
+    multipliers ``1 - eps (1 - theta)`` with ``eps = isolated share x c``
+    (Fraser et al. 2004, PNAS 101:6146).
+    """
+    comp = np.asarray(compliance, dtype=np.float64)
     nb = layout.bands
     if item.kind == "contacts":
         for s, setting in enumerate(SETTINGS):
             kept = float(item.contacts_kept.get(setting, 1.0))
-            row[IT_MULTIPLIER + s] = 1.0 - comp * (1.0 - kept)
-        row[IT_SCHOOL_CLOSURE] = comp * (1.0 - float(item.contacts_kept.get("school", 1.0)))
+            itabs[:, row, IT_MULTIPLIER + s] = 1.0 - comp * (1.0 - kept)
+        itabs[:, row, IT_SCHOOL_CLOSURE] = comp * (
+            1.0 - float(item.contacts_kept.get("school", 1.0))
+        )
     elif item.kind == "vaccination" and item.vaccination is not None:
-        row[IT_DOSES] = item.vaccination.doses_per_day
-        row[IT_CEILING] = item.vaccination.uptake_ceiling * comp
-        order = list(item.vaccination.priority)
-        priority[: len(order)] = order
+        itabs[:, row, IT_CEILING] = item.vaccination.uptake_ceiling * comp
     elif item.kind == "isolation" and item.isolation is not None:
         eps = item.isolation.isolated_share * comp
         delay = item.isolation.days_from_onset
-        row[IT_ISO_SYMPTOMATIC] = isolation_multiplier(
-            eps, delay, inputs.infectious_period_days, layout.infectious_stages
+        theta = shares_before_isolation(delay, infectious_days, layout.infectious_stages)
+        itabs[:, row, IT_ISO_SYMPTOMATIC] = 1.0 - eps * (1.0 - theta)
+        wait_days = np.asarray(plan.severity.onset_to_admission_days, dtype=np.float64)
+        theta_wait = shares_before_isolation(delay, wait_days, layout.wait_stages)
+        itabs[:, row, IT_ISO_WAITING : IT_ISO_WAITING + nb] = 1.0 - eps[:, None] * (
+            1.0 - theta_wait[None, :]
         )
-        for i in range(nb):
-            row[IT_ISO_WAITING + i] = isolation_multiplier(
-                eps, delay, float(wait_days[i]), layout.wait_stages
-            )
 
 
 def capacity_array(plan: Plan) -> NDArray[np.float64]:

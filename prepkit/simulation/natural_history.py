@@ -33,24 +33,28 @@ infectious disease outbreak controllable. PNAS 101:6146-6151.
 
 from __future__ import annotations
 
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
 from scipy.special import gammainc
 
 
-def share_before_isolation(delay_days: float, mean_days: float, stages: int) -> float:
-    """Share of a case's infectiousness spent before isolation.
+def shares_before_isolation(
+    delay_days: float, mean_days: ArrayLike, stages: int
+) -> NDArray[np.float64]:
+    """Share of a case's infectiousness spent before isolation, for one or many means.
 
     Parameters
     ----------
     delay_days : float
         Days from symptom onset to isolation [days].
-    mean_days : float
-        Mean infectious period from onset [days].
+    mean_days : float or ndarray
+        Mean infectious period from onset (or of the delay chain) [days].
     stages : int
-        Erlang stage count of the infectious period.
+        Erlang stage count of the chain.
 
     Returns
     -------
-    float
+    ndarray, shaped as ``mean_days``
         ``theta = E[min(T, d)] / E[T]`` for ``T ~ Gamma(stages,
         mean_days / stages)`` [fraction].
 
@@ -60,39 +64,15 @@ def share_before_isolation(delay_days: float, mean_days: float, stages: int) -> 
     make an infectious disease outbreak controllable. PNAS 101:6146-6151.
     doi:10.1073/pnas.0307506101
     """
+    means = np.asarray(mean_days, dtype=np.float64)
     if delay_days <= 0.0:
-        return 0.0
-    scale = mean_days / stages
+        return np.zeros_like(means)
+    scale = means / stages
     x = delay_days / scale
-    expected_min = mean_days * float(gammainc(stages + 1, x)) + delay_days * (
-        1.0 - float(gammainc(stages, x))
-    )
-    return min(1.0, expected_min / mean_days)
+    expected_min = means * gammainc(stages + 1, x) + delay_days * (1.0 - gammainc(stages, x))
+    return np.asarray(np.minimum(1.0, expected_min / means), dtype=np.float64)
 
 
-def isolation_multiplier(
-    isolated_share: float, delay_days: float, mean_days: float, stages: int
-) -> float:
-    """Multiplier of infectiousness ``1 - eps (1 - theta)`` under case isolation.
-
-    Parameters
-    ----------
-    isolated_share : float
-        Share of cases isolated, compliance included [fraction].
-    delay_days, mean_days, stages : float, float, int
-        Days from onset to isolation [days], mean infectious period from
-        onset [days] and its Erlang stage count, as for
-        :func:`share_before_isolation`.
-
-    Returns
-    -------
-    float
-        Multiplier of the compartment's infectiousness [fraction].
-
-    References
-    ----------
-    Fraser C., Riley S., Anderson R.M., Ferguson N.M. (2004). PNAS
-    101:6146-6151, equation for R under isolation.
-    """
-    theta = share_before_isolation(delay_days, mean_days, stages)
-    return 1.0 - isolated_share * (1.0 - theta)
+def share_before_isolation(delay_days: float, mean_days: float, stages: int) -> float:
+    """:func:`shares_before_isolation` for one mean [fraction]."""
+    return float(shares_before_isolation(delay_days, mean_days, stages))

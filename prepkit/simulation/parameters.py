@@ -9,15 +9,19 @@ the growth rate.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.errors import ModelError
-from prepkit.plan import Disease, Plan, Vaccination
+from prepkit.plan import Disease, Intervention, Plan, Vaccination
 from prepkit.simulation.beta_scaling import beta_for_targets
 from prepkit.simulation.contacts import setting_matrices
+from prepkit.simulation.draw_values import DrawValues
 from prepkit.simulation.health import growth_bound, growth_step
 from prepkit.simulation.inputs import ResolvedInputs
+from prepkit.simulation.intervention_table import compliance_columns
 from prepkit.simulation.layout import (
     BLK_CUM_INF,
     BLK_E,
@@ -99,22 +103,22 @@ def check_durations(plan: Plan, inputs: ResolvedInputs) -> None:
         raise ModelError("onset-to-admission delays and stays must be positive")
 
 
-def parameter_vector(
+def fixed_parameters(
     plan: Plan,
-    inputs: ResolvedInputs,
     layout: StateLayout,
     pop: NDArray[np.float64],
     vaccines: list[Vaccination],
     peak_day: float,
 ) -> NDArray[np.float64]:
-    """The parameter vector of a run, beta not yet set.
+    """The parameter vector of a run with the numbers no draw changes.
+
+    The numbers that change from draw to draw are written by
+    :func:`draw_parameters` and beta by :func:`draw_transmission`.
 
     Parameters
     ----------
     plan : Plan
         The plan.
-    inputs : ResolvedInputs
-        Numbers picked for the run.
     layout : StateLayout
         Stage counts.
     pop : ndarray
@@ -134,16 +138,8 @@ def parameter_vector(
     severity = plan.severity
     nb = layout.bands
     total = float(pop.sum())
-    ve_inf = inputs.efficacy_infection if vaccines else 0.0
-    ve_sev = inputs.efficacy_severe if vaccines else 0.0
     days_to_protection = vaccines[0].days_to_protection if vaccines else 0.0
-
-    p_sym = np.array(inputs.symptomatic_share, dtype=np.float64)
-    h = np.minimum(np.array(inputs.admitted_share, dtype=np.float64), p_sym)
-    hv = protected_admitted_share(p_sym, h, ve_inf, ve_sev)
     wait_days = np.array(severity.onset_to_admission_days, dtype=np.float64)
-    ward_days = np.array(inputs.ward_stay_days, dtype=np.float64)
-    icu_days = np.array(inputs.icu_stay_days, dtype=np.float64)
     pc = np.zeros(parameter_size(nb))
 
     def put(field: int, values: NDArray[np.float64] | tuple[float, ...]) -> None:
@@ -151,20 +147,11 @@ def parameter_vector(
 
     put(P_POP, pop)
     put(P_SUSCEPTIBILITY, tuple(disease.relative_susceptibility))
-    put(P_SYMPTOMATIC, p_sym)
-    put(P_ADMIT, h)
-    put(P_ADMIT_PROTECTED, hv)
-    put(P_ICU, inputs.icu_share)
     put(P_WARD_FATALITY, tuple(severity.ward_fatality))
     put(P_ICU_FATALITY, tuple(severity.icu_fatality))
     put(P_WAIT_RATE, layout.wait_stages / wait_days)
-    put(P_WARD_RATE, layout.ward_stages / ward_days)
-    put(P_ICU_RATE, layout.icu_stages / icu_days)
     sc = scalar_offset(nb)
-    pc[sc + S_LATENT_RATE] = layout.latent_stages / inputs.latent_period_days
-    pc[sc + S_INFECTIOUS_RATE] = layout.infectious_stages / inputs.infectious_period_days
     pc[sc + S_RHO] = disease.asymptomatic_relative_infectiousness
-    pc[sc + S_VE_INFECTION] = ve_inf
     if days_to_protection > 0.0:
         pc[sc + S_PROTECT_RATE] = 1.0 / days_to_protection
         pc[sc + S_DOSE_TO_WAITING] = 1.0
@@ -172,55 +159,168 @@ def parameter_vector(
     pc[sc + S_SEASON_PEAK_DAY] = peak_day
     pc[sc + S_IMPORTS] = disease.daily_importations
     pc[sc + S_TOTAL_POP] = total
+    pc[sc + S_GROWTH_STEP] = growth_step(
+        total, disease.initial_infections + disease.daily_importations
+    )
     mo = matrix_offset(nb)
     pc[mo:] = setting_matrices(plan.contacts, pop).ravel()
     return pc
 
 
-def calibrate_transmission(
-    pc: NDArray[np.float64], layout: StateLayout, inputs: ResolvedInputs, disease: Disease
-) -> None:
-    """Set beta from the transmissibility input, and the growth bound and step, in ``pc``.
+def draw_parameters(
+    pc: NDArray[np.float64],
+    itab: NDArray[np.float64],
+    layout: StateLayout,
+    plan: Plan,
+    items: Sequence[Intervention],
+    values: DrawValues,
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Parameter vectors and intervention tables of one run or of many draws.
+
+    The one builder of the numbers that change from draw to draw, used by
+    :func:`prepkit.simulation.compile.compile_model` (one row,
+    :meth:`DrawValues.of_inputs`) and by the ensemble (one row per draw).
 
     Parameters
     ----------
     pc : ndarray
-        Parameter vector; its beta, growth bound and growth step are written.
+        Parameter vector with the fixed numbers (:func:`fixed_parameters`);
+        copied.
+    itab : ndarray
+        Intervention table before compliance
+        (:func:`prepkit.simulation.intervention_table.intervention_table`); copied.
     layout : StateLayout
         Stage counts.
-    inputs : ResolvedInputs
-        Numbers picked for the run (the transmissibility measure and value).
-    disease : Disease
-        The plan's disease (seasonal amplitude, initial infections,
-        importations).
+    plan : Plan
+        The plan.
+    items : sequence of Intervention
+        The run's interventions, in the rows of ``itab``.
+    values : DrawValues
+        The numbers of each draw.
+
+    Returns
+    -------
+    pcs : ndarray, shape (draws, parameters)
+        Parameter vectors, beta and the growth bound not yet set
+        (:func:`draw_transmission`).
+    itabs : ndarray, shape (draws, interventions, columns)
+        Intervention tables.
+
+    Notes
+    -----
+    Band fields: symptomatic share ``p``, admitted share ``h = min(h, p)``,
+    admitted share of protected infections
+    (:func:`prepkit.simulation.protected_admission.protected_admitted_share`),
+    ICU share and the ward and ICU stage rates ``q / T``; scalars: latent
+    and infectious stage rates ``q / T`` and the vaccine efficacy against
+    infection (0 without a vaccination).
+    """
+    nb = layout.bands
+    sc = scalar_offset(nb)
+    n = values.size
+    pcs = np.repeat(pc[None, :], n, axis=0)
+    has_vaccine = any(item.vaccination is not None for item in items)
+    p_sym = np.asarray(values.symptomatic_share, dtype=np.float64)
+    h = np.minimum(np.asarray(values.admitted_share, dtype=np.float64), p_sym)
+    ve_inf = np.asarray(values.efficacy_infection, dtype=np.float64) if has_vaccine else np.zeros(n)
+    ve_sev = np.asarray(values.efficacy_severe, dtype=np.float64) if has_vaccine else np.zeros(n)
+
+    def put(field_index: int, block: NDArray[np.float64]) -> None:
+        pcs[:, field_index * nb : (field_index + 1) * nb] = block
+
+    put(P_SYMPTOMATIC, p_sym)
+    put(P_ADMIT, h)
+    put(P_ADMIT_PROTECTED, protected_admitted_share(p_sym, h, ve_inf, ve_sev))
+    put(P_ICU, np.asarray(values.icu_share, dtype=np.float64))
+    put(P_WARD_RATE, layout.ward_stages / np.asarray(values.ward_stay_days, dtype=np.float64))
+    put(P_ICU_RATE, layout.icu_stages / np.asarray(values.icu_stay_days, dtype=np.float64))
+    infectious_days = np.asarray(values.infectious_period_days, dtype=np.float64)
+    pcs[:, sc + S_LATENT_RATE] = layout.latent_stages / np.asarray(
+        values.latent_period_days, dtype=np.float64
+    )
+    pcs[:, sc + S_INFECTIOUS_RATE] = layout.infectious_stages / infectious_days
+    pcs[:, sc + S_VE_INFECTION] = ve_inf
+
+    itabs = np.repeat(itab[None, :, :], n, axis=0)
+    for r, item in enumerate(items):
+        comp = values.compliance.get(item.name)
+        comp = np.full(n, float(item.compliance.central)) if comp is None else comp
+        compliance_columns(itabs, r, item, comp, infectious_days, plan, layout)
+    return pcs, itabs
+
+
+def draw_betas(
+    pc: NDArray[np.float64], layout: StateLayout, measure: str, values: DrawValues
+) -> NDArray[np.float64]:
+    """Transmission scale of each draw from its transmissibility measure [per contact].
+
+    Parameters
+    ----------
+    pc : ndarray
+        A parameter vector of the run (fixes contacts, populations,
+        susceptibility and the onset-to-admission delays).
+    layout : StateLayout
+        Stage counts.
+    measure : {"r0", "doubling_time", "growth_rate"}
+        Measure of ``values.transmissibility_value``.
+    values : DrawValues
+        The numbers of each draw.
+
+    Returns
+    -------
+    ndarray, shape (draws,)
+        beta of each draw (:func:`prepkit.simulation.beta_scaling.beta_for_targets`).
+    """
+    return beta_for_targets(
+        pc, layout, measure,
+        values.transmissibility_value, values.symptomatic_share, values.admitted_share,
+        layout.latent_stages / np.asarray(values.latent_period_days, dtype=np.float64),
+        layout.infectious_stages / np.asarray(values.infectious_period_days, dtype=np.float64),
+    )
+
+
+def draw_transmission(
+    pcs: NDArray[np.float64],
+    layout: StateLayout,
+    measure: str,
+    values: DrawValues,
+    amplitude: float,
+    beta: NDArray[np.float64] | None = None,
+) -> None:
+    """Write beta and the growth bound of each draw into ``pcs``.
+
+    Parameters
+    ----------
+    pcs : ndarray, shape (draws, parameters)
+        Parameter vectors from :func:`draw_parameters`; their beta and
+        growth bound are written.
+    layout : StateLayout
+        Stage counts.
+    measure : {"r0", "doubling_time", "growth_rate"}
+        Measure of ``values.transmissibility_value``.
+    values : DrawValues
+        The numbers of each draw.
+    amplitude : float
+        Seasonal amplitude [fraction].
+    beta : ndarray, optional
+        beta of each draw when already known (default :func:`draw_betas`).
 
     Raises
     ------
     ModelError
-        When the doubling time is not positive or no transmission can give
+        When a doubling time is not positive or no transmission can give
         the transmissibility asked for.
     """
     nb = layout.bands
     sc = scalar_offset(nb)
-    total = pc[sc + S_TOTAL_POP]
-    measure, value = inputs.transmissibility_measure, inputs.transmissibility_value
-    p_sym = pc[P_SYMPTOMATIC * nb : (P_SYMPTOMATIC + 1) * nb]
-    h = pc[P_ADMIT * nb : (P_ADMIT + 1) * nb]
-    beta = float(beta_for_targets(
-        pc, layout, measure, [value],
-        p_sym[None, :], h[None, :], [pc[sc + S_LATENT_RATE]], [pc[sc + S_INFECTIOUS_RATE]],
-    )[0])
-    pc[sc + S_BETA] = beta
-    pc[sc + S_GROWTH_BOUND] = float(growth_bound(
-        measure, value,
-        latent=(pc[sc + S_LATENT_RATE], layout.latent_stages),
-        infectious=(pc[sc + S_INFECTIOUS_RATE], layout.infectious_stages),
-        waiting=(float(np.max(pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb])),
+    pcs[:, sc + S_BETA] = draw_betas(pcs[0], layout, measure, values) if beta is None else beta
+    pcs[:, sc + S_GROWTH_BOUND] = growth_bound(
+        measure, values.transmissibility_value,
+        latent=(pcs[:, sc + S_LATENT_RATE], layout.latent_stages),
+        infectious=(pcs[:, sc + S_INFECTIOUS_RATE], layout.infectious_stages),
+        waiting=(float(np.max(pcs[0, P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb])),
                  layout.wait_stages),
-        amplitude=disease.seasonal_amplitude,
-    ))
-    pc[sc + S_GROWTH_STEP] = growth_step(
-        total, disease.initial_infections + disease.daily_importations
+        amplitude=amplitude,
     )
 
 

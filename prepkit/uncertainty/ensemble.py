@@ -25,15 +25,16 @@ from numpy.typing import NDArray
 
 from prepkit.metrics.absence import employed_weights
 from prepkit.plan import Plan
-from prepkit.simulation.beta_scaling import beta_for_targets
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.diagnose import draw_error
+from prepkit.simulation.draw_values import DrawValues, take_draws
 from prepkit.simulation.health import failed_rows, most_substeps
 from prepkit.simulation.kernels import run_draws
 from prepkit.simulation.layout import (
     S_GROWTH_STEP,
     scalar_offset,
 )
+from prepkit.simulation.parameters import draw_betas
 from prepkit.simulation.run_checks import REPORT_SIZE
 from prepkit.simulation.threads import use_all_cores
 from prepkit.uncertainty.draws import (
@@ -41,8 +42,6 @@ from prepkit.uncertainty.draws import (
     PEAK_NAMES,
     SERIES_NAMES,
     DrawSeries,
-    DrawValues,
-    take_draws,
 )
 from prepkit.uncertainty.parameters import ENSEMBLE_MIN_SUBSTEPS, build_parameters, step_rule
 
@@ -78,12 +77,8 @@ def calibrate_beta(
     28:365-382. Wallinga J., Lipsitch M. (2007). Proc. R. Soc. B
     274:599-604 (see :mod:`prepkit.simulation.next_generation`).
     """
-    layout = model.layout
-    return beta_for_targets(
-        model.pc, layout, measure or model.inputs.transmissibility_measure,
-        values.transmissibility_value, values.symptomatic_share, values.admitted_share,
-        layout.latent_stages / np.asarray(values.latent_period_days, dtype=np.float64),
-        layout.infectious_stages / np.asarray(values.infectious_period_days, dtype=np.float64),
+    return draw_betas(
+        model.pc, model.layout, measure or model.inputs.transmissibility_measure, values
     )
 
 

@@ -59,8 +59,9 @@ from numpy.typing import NDArray
 
 from prepkit.plan import Plan, Scenario
 from prepkit.scenarios.runs import ScenarioRun, compile_scenario
+from prepkit.simulation.draw_values import DrawValues
 from prepkit.simulation.inputs import validate_plan
-from prepkit.uncertainty.draws import DrawValues, values_from
+from prepkit.uncertainty.draws import values_from
 from prepkit.uncertainty.ensemble import DEFAULT_BLOCKS, simulate_draws
 from prepkit.uncertainty.fields import (
     UncertainField,

@@ -26,8 +26,9 @@ from prepkit.errors import ModelError
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import ScenarioRun
 from prepkit.simulation.compile import CompiledModel
+from prepkit.simulation.draw_values import DrawValues
 from prepkit.uncertainty.draw_metrics import draw_scalars, peak_days, run_values
-from prepkit.uncertainty.draws import DrawSeries, DrawValues, FieldRange
+from prepkit.uncertainty.draws import DrawSeries, FieldRange
 from prepkit.uncertainty.results import (
     BAND_SERIES,
     PEAK_SERIES,

@@ -7,18 +7,11 @@ import sys
 from pathlib import Path
 
 import pytest
+from conftest import ENTRY, run_entry
 
 SAMPLE = Path(__file__).parents[2] / "sample_workbooks" / "tamsett_hollow.xlsx"
-ENTRY = "from prepkit.cli.main import entry; entry()"
-
-
-def _run(*args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-c", ENTRY, *args], capture_output=True, text=True,
-                          timeout=120, check=False)
-
-
 def test_check_of_a_good_workbook_prints_the_summary_and_exits_0() -> None:
-    done = _run("check", str(SAMPLE))
+    done = run_entry("check", str(SAMPLE))
     assert done.returncode == 0
     assert "Tamsett Hollow" in done.stdout
     assert "Traceback" not in done.stderr
@@ -27,7 +20,7 @@ def test_check_of_a_good_workbook_prints_the_summary_and_exits_0() -> None:
 def test_check_of_a_bad_file_exits_2_with_the_problem(tmp_path: Path) -> None:
     bad = tmp_path / "notes.xlsx"
     bad.write_text("day,admissions\n1,3\n")
-    done = _run("check", str(bad))
+    done = run_entry("check", str(bad))
     assert done.returncode == 2
     assert "expected an Excel workbook" in done.stdout
     assert "Traceback" not in done.stderr

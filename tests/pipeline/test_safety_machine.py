@@ -7,7 +7,6 @@ compiled-model cache that cannot be written (the run goes on, with a note).
 
 from __future__ import annotations
 
-import dataclasses
 import errno
 import os
 import subprocess
@@ -16,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import small_plan
+from conftest import assert_no_traceback, quick_workbook, run_entry
 
 from prepkit.base.files import atomic_write_bytes
 from prepkit.cli import env as cli_env
@@ -26,35 +25,8 @@ from prepkit.pipeline import outputs
 from prepkit.pipeline import run as pipeline
 from prepkit.pipeline.manifest import verify_pack
 from prepkit.pipeline.outputs import AtomicOutputDir
-from prepkit.plan import Plan
-from prepkit.workbook.template import write_workbook
 
 pytestmark = pytest.mark.slow  # subprocess runs of the command line
-
-ENTRY = "from prepkit.cli.main import entry; entry()"
-
-
-def _entry(*args: str, env: dict[str, str] | None = None, timeout: float = 120
-           ) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-c", ENTRY, *args], capture_output=True, text=True,
-                          timeout=timeout, check=False, env=env)
-
-
-def _quick_plan() -> Plan:
-    plan = small_plan()
-    return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
-                                                                 horizon_days=60))
-
-
-def _workbook(folder: Path, plan: Plan | None = None) -> Path:
-    path = folder / "plan.xlsx"
-    write_workbook(path, plan or _quick_plan())
-    return path
-
-
-def _no_traceback(text: str) -> None:
-    assert "Traceback" not in text and "internal error" not in text, text
-
 
 # ---- SOURCE_DATE_EPOCH -------------------------------------------------------------------------
 
@@ -63,24 +35,24 @@ def _no_traceback(text: str) -> None:
 def test_a_malformed_source_date_epoch_is_a_message_not_an_import_failure(
     tmp_path: Path, value: str
 ) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     env = {**os.environ, "SOURCE_DATE_EPOCH": value}
     for args in (["run", str(workbook), "-o", str(tmp_path / "pack")],
                  ["demo", str(tmp_path / "demo")], ["template", str(tmp_path / "t.xlsx")]):
-        done = _entry(*args, env=env)
+        done = run_entry(*args, env=env)
         assert done.returncode == 2, done.stderr
         assert done.stderr.startswith(
             "prepkit: SOURCE_DATE_EPOCH: expected a whole number of seconds since 1970-01-01 "
             f"UTC (the run time stamped on the pack), found {value!r}; set it to a number such "
             "as 1700000000, or unset it to stamp the current time"), done.stderr
-        _no_traceback(done.stderr)
+        assert_no_traceback(done.stderr)
     assert not (tmp_path / "pack").exists() and not (tmp_path / "t.xlsx").exists()
 
 
 def test_a_blank_source_date_epoch_means_unset(tmp_path: Path) -> None:
     # numpy reads the variable at import and fails on a blank value: it must never see one.
-    workbook = _workbook(tmp_path)
-    done = _entry("run", str(workbook), "--summary-only", "--summary-json",
+    workbook = quick_workbook(tmp_path)
+    done = run_entry("run", str(workbook), "--summary-only", "--summary-json",
                   str(tmp_path / "s.json"), "-q", env={**os.environ, "SOURCE_DATE_EPOCH": " "})
     assert done.returncode == 0, done.stderr
     assert (tmp_path / "s.json").is_file()
@@ -100,7 +72,7 @@ def _disk_full(monkeypatch: pytest.MonkeyPatch) -> None:
 def test_a_full_disk_while_the_pack_is_written_is_a_message_and_keeps_the_old_pack(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     with AtomicOutputDir(outdir) as out:
         out.write_bytes("briefing-pack.pdf", b"%PDF the previous pack")
@@ -109,7 +81,7 @@ def test_a_full_disk_while_the_pack_is_written_is_a_message_and_keeps_the_old_pa
     err = capsys.readouterr().err
     assert err.startswith(f"prepkit: output folder {outdir}: could not write ")
     assert "of the new pack (No space left on device); nothing was changed in the folder" in err
-    _no_traceback(err)
+    assert_no_traceback(err)
     monkeypatch.undo()
     assert verify_pack(outdir) == []
     assert (outdir / "briefing-pack.pdf").read_bytes() == b"%PDF the previous pack"
@@ -136,7 +108,7 @@ def test_an_operating_system_error_anywhere_is_a_message_naming_the_file(
         raise OSError(errno.ENOSPC, "No space left on device", "/var/tmp/scratch")
 
     monkeypatch.setattr(pipeline, "run_plan", full)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     assert main(["run", str(workbook), "-o", str(tmp_path / "pack"), "-q"]) == 2
     err = capsys.readouterr().err
     assert err == ("prepkit: could not use /var/tmp/scratch: No space left on device (the disk "
@@ -184,12 +156,12 @@ def test_a_compiled_model_cache_that_cannot_be_written_falls_back_with_a_note(
     scratch.mkdir()
     env = {**os.environ, "NUMBA_CACHE_DIR": str(blocker / "cache"),
            "NUMBA_CACHE_LOCATOR_CLASSES": "UserProvidedCacheLocator", "TMPDIR": str(scratch)}
-    workbook = _workbook(tmp_path)
-    done = _entry("run", str(workbook), "--summary-only", "--summary-json",
+    workbook = quick_workbook(tmp_path)
+    done = run_entry("run", str(workbook), "--summary-only", "--summary-json",
                   str(tmp_path / "s.json"), env=env, timeout=900)
     assert done.returncode == 0, done.stderr
     assert cli_env.CACHE_NOTE in done.stderr
-    _no_traceback(done.stderr)
+    assert_no_traceback(done.stderr)
     assert (tmp_path / "s.json").is_file()
     assert [p.name for p in scratch.iterdir() if p.name.startswith("prepkit-compiled")] == []
 

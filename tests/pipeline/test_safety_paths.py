@@ -11,14 +11,13 @@
 
 from __future__ import annotations
 
-import dataclasses
 import json
 import os
 from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import small_plan
+from conftest import quick_workbook
 
 from prepkit import errors
 from prepkit.cli.main import main
@@ -29,7 +28,6 @@ from prepkit.pipeline.manifest import MANIFEST_NAME, file_sha256, verify_pack
 from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.pipeline.outputs_guard import check_summary_path, is_inside, same_file
 from prepkit.pipeline.pack_folder import check_output_dir
-from prepkit.workbook.template import write_workbook
 
 pytestmark = pytest.mark.slow  # whole runs against guarded paths
 
@@ -43,15 +41,6 @@ def _no_work(monkeypatch: pytest.MonkeyPatch) -> None:
 
     monkeypatch.setattr(pipeline, "read_plan_with_warnings", forbidden)
     monkeypatch.setattr(pipeline, "run_plan", forbidden)
-
-
-def _workbook(tmp_path: Path) -> Path:
-    plan = small_plan()
-    plan = dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
-                                                                 horizon_days=60))
-    path = tmp_path / "plan.xlsx"
-    write_workbook(path, plan)
-    return path
 
 
 def _pack(outdir: Path, files: dict[str, bytes] = OLD_PACK) -> None:
@@ -86,7 +75,7 @@ def _spellings(workbook: Path) -> list[Path]:
 def test_summary_json_is_never_the_workbook_however_spelled(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     before = workbook.read_bytes()
     _no_work(monkeypatch)
     for spelling in _spellings(workbook):
@@ -106,7 +95,7 @@ def test_summary_json_onto_the_workbook_leaves_it_unchanged_in_a_real_run(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
     # Before the check, this run wrote the summary over the workbook and reported success.
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     before = workbook.read_bytes()
     code = main(["run", str(workbook), "--summary-json", str(workbook), "--summary-only", "-q"])
     assert code == 2
@@ -120,7 +109,7 @@ def test_summary_json_never_replaces_a_file_prepkit_did_not_write(
     force: list[str],
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     notes = tmp_path / "notes.json"
     notes.write_text('{"my": "own settings"}')
     code = main(["run", str(workbook), "--summary-json", str(notes), "--summary-only", *force])
@@ -133,7 +122,7 @@ def test_summary_json_never_replaces_a_file_prepkit_did_not_write(
 
 
 def test_a_summary_prepkit_wrote_may_be_replaced(tmp_path: Path) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     earlier = tmp_path / "results.json"
     earlier.write_text(json.dumps({"summary_version": 1, "scenarios": [],
                                    "run": {"prepkit_version": "0.1.0", "input_sha256": "ab"}}))
@@ -147,7 +136,7 @@ def test_summary_json_paths_that_cannot_be_written_are_refused_before_work(
     where: str,
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     _pack(outdir)
     (tmp_path / "folder").mkdir()
@@ -181,7 +170,7 @@ def test_output_folder_under_an_existing_file_is_refused_before_work(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     before = workbook.read_bytes()
     assert main(["run", str(workbook), "-o", str(workbook / "pack")]) == 2
     err = capsys.readouterr().err
@@ -194,7 +183,7 @@ def test_output_folder_holding_the_workbook_through_a_link_is_refused(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     alias = tmp_path.parent / f"{tmp_path.name}-alias"
     alias.symlink_to(tmp_path, target_is_directory=True)
     try:
@@ -209,7 +198,7 @@ def test_an_edited_pack_file_stops_the_run_and_is_named(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     _pack(outdir)
     (outdir / "results.xlsx").write_bytes(b"PK with the planner's notes")
@@ -230,7 +219,7 @@ def test_watch_stops_on_an_edited_pack_file_before_watching(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     monkeypatch.setattr(watch, "watch_workbook", lambda *_a, **_k: pytest.fail("watched"))
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     _pack(outdir)
     (outdir / "charts" / "a.svg").write_bytes(b"<svg>edited</svg>")
@@ -242,7 +231,7 @@ def test_watch_stops_on_an_edited_pack_file_before_watching(
 def test_force_replaces_edited_pack_files_and_nothing_else(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     _pack(outdir)
     (outdir / "results.xlsx").write_bytes(b"PK with the planner's notes")
@@ -258,7 +247,7 @@ def test_force_never_replaces_files_prepkit_did_not_write(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     _no_work(monkeypatch)
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     outdir = tmp_path / "pack"
     _pack(outdir)
     (outdir / "minutes.docx").write_bytes(b"planner's own")

@@ -7,7 +7,6 @@ no worker prints its own interruption.
 
 from __future__ import annotations
 
-import dataclasses
 import os
 import signal
 import subprocess
@@ -18,28 +17,11 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import small_plan
+from conftest import ENTRY, quick_workbook
 
 from prepkit.pipeline import jobs
-from prepkit.plan import Plan
-from prepkit.workbook.template import write_workbook
 
 pytestmark = pytest.mark.slow  # starts and kills worker processes
-
-ENTRY = "from prepkit.cli.main import entry; entry()"
-
-
-def _quick_plan() -> Plan:
-    plan = small_plan()
-    return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
-                                                                 horizon_days=60))
-
-
-def _workbook(folder: Path, plan: Plan | None = None) -> Path:
-    path = folder / "plan.xlsx"
-    write_workbook(path, plan or _quick_plan())
-    return path
-
 
 # ---- Worker processes ----------------------------------------------------------------------------
 
@@ -69,7 +51,7 @@ def _alive(pid: int) -> bool:
 @pytest.fixture
 def rendering_run(tmp_path: Path) -> Iterator[tuple[subprocess.Popen[str], list[int]]]:
     """A run started in its own session, caught while its worker processes draw charts."""
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     env = {**os.environ, jobs.WORKERS_ENV: "2"}
     env.pop("CI", None)
     process = subprocess.Popen([sys.executable, "-c", ENTRY, "run", str(workbook), "-o",

@@ -35,6 +35,7 @@ from prepkit.errors import ModelError
 from prepkit.plan import End, Plan, Range3, Start
 from prepkit.scenarios.runs import compile_scenario
 from prepkit.simulation.compile import CompiledModel
+from prepkit.simulation.draw_values import DrawValues
 from prepkit.simulation.health import DRIFT_TOLERANCE, MAX_RATE_PER_DAY, NEGATIVE_TOLERANCE
 from prepkit.simulation.layout import (
     BLK_C,
@@ -55,7 +56,6 @@ from prepkit.simulation.layout import (
 )
 from prepkit.simulation.simulate import simulate, simulate_reference
 from prepkit.simulation.transmissibility import reproduction_number
-from prepkit.uncertainty.draws import DrawValues
 from prepkit.uncertainty.ensemble import simulate_draws
 from prepkit.workbook.schema import FIELDS_BY_NAME, MAX_BANDS
 

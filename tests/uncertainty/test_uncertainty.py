@@ -23,11 +23,11 @@ from numpy.testing import assert_allclose, assert_array_equal
 from prepkit.plan import Range3, Start
 from prepkit.scenarios.runs import compile_scenario, run_plan, run_scenario
 from prepkit.simulation.layout import S_BETA, scalar_offset
-from prepkit.simulation.natural_history import share_before_isolation
+from prepkit.simulation.natural_history import share_before_isolation, shares_before_isolation
 from prepkit.simulation.transmissibility import beta_for_growth_rate, beta_for_r0
 from prepkit.uncertainty.ensemble import calibrate_beta, simulate_draws
 from prepkit.uncertainty.fields import plan_dimensions, sample_quantiles, scenario_fields
-from prepkit.uncertainty.parameters import build_parameters, shares_before_isolation
+from prepkit.uncertainty.parameters import build_parameters
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.uncertainty.results import quantile_label
 from prepkit.uncertainty.run import draw_values, run_ensemble

@@ -7,50 +7,21 @@ or of the planner's own, saved without the parts some programs leave out).
 from __future__ import annotations
 
 import builtins
-import dataclasses
 import errno
 import io
 import os
-import subprocess
-import sys
 import zipfile
 from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import small_plan
+from conftest import assert_no_traceback, quick_workbook, run_entry, small_plan
 
 from prepkit.cli.main import main
-from prepkit.plan import Plan
 from prepkit.workbook.sheets import HOSPITALS, POPULATION
-from prepkit.workbook.template import build_workbook, write_workbook
+from prepkit.workbook.template import build_workbook
 
 pytestmark = pytest.mark.slow  # subprocess runs on unreadable inputs
-
-ENTRY = "from prepkit.cli.main import entry; entry()"
-
-
-def _entry(*args: str, env: dict[str, str] | None = None, timeout: float = 120
-           ) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-c", ENTRY, *args], capture_output=True, text=True,
-                          timeout=timeout, check=False, env=env)
-
-
-def _quick_plan() -> Plan:
-    plan = small_plan()
-    return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
-                                                                 horizon_days=60))
-
-
-def _workbook(folder: Path, plan: Plan | None = None) -> Path:
-    path = folder / "plan.xlsx"
-    write_workbook(path, plan or _quick_plan())
-    return path
-
-
-def _no_traceback(text: str) -> None:
-    assert "Traceback" not in text and "internal error" not in text, text
-
 
 @pytest.fixture
 def unreadable(monkeypatch: pytest.MonkeyPatch) -> Any:
@@ -90,7 +61,7 @@ def unreadable(monkeypatch: pytest.MonkeyPatch) -> Any:
 def test_an_unreadable_workbook_is_a_message_for_run_as_for_check(
     tmp_path: Path, unreadable: Any, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    workbook = _workbook(tmp_path)
+    workbook = quick_workbook(tmp_path)
     unreadable(workbook)
     outdir = tmp_path / "pack"
     assert main(["check", str(workbook)]) == 2
@@ -101,7 +72,7 @@ def test_an_unreadable_workbook_is_a_message_for_run_as_for_check(
     err = capsys.readouterr().err
     assert "(file): expected a file that can be read, found it cannot be read: Permission denied" \
         in err
-    _no_traceback(err)
+    assert_no_traceback(err)
     assert not outdir.exists()
 
 
@@ -111,14 +82,14 @@ def test_a_named_pipe_given_as_the_workbook_never_blocks(tmp_path: Path) -> None
     for args in (["check", str(fifo)],
                  ["run", str(fifo), "--summary-only", "--summary-json", str(tmp_path / "s.json")],
                  ["watch", str(fifo), "-o", str(tmp_path / "pack")]):
-        done = _entry(*args, timeout=60)  # before the check, `check` waited here for ever
+        done = run_entry(*args, timeout=60)  # before the check, `check` waited here for ever
         assert done.returncode == 2, done
         assert f"found a named pipe, not a file ('{fifo}')" in done.stdout + done.stderr
-        _no_traceback(done.stderr)
+        assert_no_traceback(done.stderr)
 
 
 def test_a_device_given_as_the_workbook_is_not_read(tmp_path: Path) -> None:
-    done = _entry("check", "/dev/zero", timeout=60)
+    done = run_entry("check", "/dev/zero", timeout=60)
     assert done.returncode == 2
     assert "found a device, not a file ('/dev/zero')" in done.stdout
 

@@ -9,24 +9,11 @@ import dataclasses
 from pathlib import Path
 
 import pytest
-from conftest import Editor, small_plan
+from conftest import Editor, quick_plan, quick_workbook
 
 from prepkit.cli.main import main
 from prepkit.plan import Plan, Range3
 from prepkit.workbook.sheets import DISEASE_BY_AGE
-from prepkit.workbook.template import write_workbook
-
-
-def _quick_plan() -> Plan:
-    plan = small_plan()
-    return dataclasses.replace(plan, details=dataclasses.replace(plan.details, draws=0,
-                                                                 horizon_days=60))
-
-
-def _workbook(folder: Path, plan: Plan | None = None) -> Path:
-    path = folder / "plan.xlsx"
-    write_workbook(path, plan or _quick_plan())
-    return path
 
 
 def _check_problems(editor_or_plan: Editor | Plan, tmp_path: Path,
@@ -34,7 +21,7 @@ def _check_problems(editor_or_plan: Editor | Plan, tmp_path: Path,
     if isinstance(editor_or_plan, Editor):
         path = editor_or_plan.save()
     else:
-        path = _workbook(tmp_path, editor_or_plan)
+        path = quick_workbook(tmp_path, editor_or_plan)
     assert main(["check", str(path)]) == 2
     return capsys.readouterr().out
 
@@ -44,7 +31,7 @@ def test_nobody_can_infect_anybody_names_the_sheets_and_fields(
 ) -> None:
     # Before, `check` passed this plan and `run` stopped with "nobody can infect anybody:
     # contacts or infectiousness are all zero", naming no sheet.
-    plan = _quick_plan()
+    plan = quick_plan()
     still = dataclasses.replace(plan, contacts=dataclasses.replace(plan.contacts,
                                                                    mean_daily=(0.0, 0.0, 0.0)))
     out = _check_problems(still, tmp_path, capsys)
@@ -63,7 +50,7 @@ def test_a_one_way_chain_of_infection_cannot_spread_either(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
     # Only band 0-17 is susceptible and only 65+ is infectious: R0 is 0 (no cycle).
-    plan = _quick_plan()
+    plan = quick_plan()
     none = Range3.point(0.0)
     some = Range3.point(0.5)
     disease = dataclasses.replace(
@@ -89,7 +76,7 @@ def test_immune_and_seeded_people_beyond_a_band_are_named_at_its_cell(
 def test_two_vaccines_in_one_scenario_are_named_at_the_scenario(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    plan = _quick_plan()
+    plan = quick_plan()
     vaccine = plan.intervention("Vaccine")
     assert vaccine.vaccination is not None
     other = dataclasses.replace(vaccine, name="Second vaccine", vaccination=dataclasses.replace(
