@@ -11,10 +11,9 @@ target growth rate ``r`` every residence time is discounted by
 ``exp(-r t)``: a chain of ``q`` stages at rate ``g`` contributes
 ``sum_{s<q} (g / (g + r))^s / (g + r)`` and the latent chain multiplies by
 ``(lat / (lat + r))^m``; at ``r = 0`` this is the R0 case. Then
-``beta = R0 / rho(K(1))`` or ``beta = 1 / rho(K_r(1))``: the numbers
-:func:`prepkit.simulation.transmissibility.beta_for_r0` and
-:func:`~prepkit.simulation.transmissibility.beta_for_growth_rate` give from the
-full infected subsystem, for one run (:func:`prepkit.simulation.compile.compile_model`)
+``beta = R0 / rho(K(1))`` or ``beta = 1 / rho(K_r(1))``, the numbers the
+full infected subsystem's next-generation matrix gives (the tests check
+both), for one run (:func:`prepkit.simulation.compile.compile_model`)
 or thousands of draws at once (the ensemble) by the same function.
 
 References

@@ -28,13 +28,11 @@ model that is simulated.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
 
-from prepkit.errors import ModelError
 from prepkit.simulation.layout import (
     N_SETTINGS,
     P_SUSCEPTIBILITY,
@@ -171,64 +169,6 @@ def growth_rate(pc: NDArray[np.float64], layout: StateLayout, **conditions: obje
     """
     f_mat, v_mat, _ = infected_subsystem(pc, layout, **conditions)  # type: ignore[arg-type]
     return spectral_abscissa(f_mat - v_mat)
-
-
-def beta_for_r0(target_r0: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
-    """Transmission scale giving a target R0 (fully susceptible, season 1).
-
-    Parameters
-    ----------
-    target_r0 : float
-        Basic reproduction number [dimensionless].
-    pc : ndarray
-        Parameter vector (its beta is ignored).
-    layout : StateLayout
-        State layout.
-
-    Returns
-    -------
-    float
-        beta [per contact].
-    """
-    unit = reproduction_number(pc, layout, beta=1.0)
-    if not (unit > 0.0 and math.isfinite(float(target_r0) / unit)):
-        raise ModelError(NOBODY_INFECTS)
-    return float(target_r0) / unit
-
-
-def beta_for_growth_rate(target_r: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
-    """Transmission scale giving a target early growth rate.
-
-    Uses ``beta = 1 / rho(F_1 (V + r I)^-1)``, which makes ``r`` the dominant
-    eigenvalue of ``F - V`` (``V + r I`` stays a non-singular M-matrix for
-    ``r`` above minus the slowest exit rate).
-
-    Parameters
-    ----------
-    target_r : float
-        Growth rate [1/day].
-    pc, layout
-        As for :func:`beta_for_r0`; returns beta [per contact] likewise.
-
-    References
-    ----------
-    Wallinga J., Lipsitch M. (2007). Proc. R. Soc. B 274:599-604.
-    Wearing H.J., Rohani P., Keeling M.J. (2005). Appropriate models for the
-    management of infectious diseases. PLoS Medicine 2:e174.
-    doi:10.1371/journal.pmed.0020174
-    """
-    f_mat, v_mat, entries = infected_subsystem(pc, layout, beta=1.0)
-    slowest = float(np.min(np.diag(v_mat)))
-    if target_r <= -slowest:
-        raise ModelError(
-            f"growth rate {target_r:.4g}/day is below what any transmission can give "
-            f"(-{slowest:.4g}/day)"
-        )
-    shifted = v_mat + target_r * np.eye(v_mat.shape[0])
-    unit = spectral_radius(next_generation_matrix(f_mat, shifted, entries))
-    if not (unit > 0.0 and math.isfinite(1.0 / unit)):
-        raise ModelError(NOBODY_INFECTS)
-    return 1.0 / unit
 
 
 def mean_generation_time(

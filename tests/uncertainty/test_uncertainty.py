@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import math
 from dataclasses import replace
 
 import numpy as np
@@ -19,12 +20,19 @@ from factories import (
     vaccination_measure,
 )
 from numpy.testing import assert_allclose, assert_array_equal
+from numpy.typing import NDArray
 
+from prepkit.errors import ModelError
 from prepkit.plan import Range3, Start
 from prepkit.scenarios.runs import compile_scenario, run_plan, run_scenario
-from prepkit.simulation.layout import S_BETA, scalar_offset
+from prepkit.simulation.layout import S_BETA, StateLayout, scalar_offset
 from prepkit.simulation.natural_history import share_before_isolation, shares_before_isolation
-from prepkit.simulation.transmissibility import beta_for_growth_rate, beta_for_r0
+from prepkit.simulation.next_generation import (
+    infected_subsystem,
+    next_generation_matrix,
+    spectral_radius,
+)
+from prepkit.simulation.transmissibility import reproduction_number
 from prepkit.uncertainty.ensemble import calibrate_beta, simulate_draws
 from prepkit.uncertainty.fields import plan_dimensions, sample_quantiles, scenario_fields
 from prepkit.uncertainty.parameters import build_parameters
@@ -76,6 +84,69 @@ def uncertain_plan():
 
 
 # --------------------------------------------------------------------------- sampling
+
+
+# The independent reference: beta from the full infected subsystem's next-generation matrix
+# (Diekmann, Heesterbeek & Metz 1990, J. Math. Biol. 28:365; Wallinga & Lipsitch 2007,
+# Proc. R. Soc. B 274:599), not the per-band shortcut of prepkit.simulation.beta_scaling.
+
+
+def beta_for_r0(target_r0: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
+    """Transmission scale giving a target R0 (fully susceptible, season 1).
+
+    Parameters
+    ----------
+    target_r0 : float
+        Basic reproduction number [dimensionless].
+    pc : ndarray
+        Parameter vector (its beta is ignored).
+    layout : StateLayout
+        State layout.
+
+    Returns
+    -------
+    float
+        beta [per contact].
+    """
+    unit = reproduction_number(pc, layout, beta=1.0)
+    if not (unit > 0.0 and math.isfinite(float(target_r0) / unit)):
+        raise ModelError("nobody can infect anybody")
+    return float(target_r0) / unit
+
+
+def beta_for_growth_rate(target_r: float, pc: NDArray[np.float64], layout: StateLayout) -> float:
+    """Transmission scale giving a target early growth rate.
+
+    Uses ``beta = 1 / rho(F_1 (V + r I)^-1)``, which makes ``r`` the dominant
+    eigenvalue of ``F - V`` (``V + r I`` stays a non-singular M-matrix for
+    ``r`` above minus the slowest exit rate).
+
+    Parameters
+    ----------
+    target_r : float
+        Growth rate [1/day].
+    pc, layout
+        As for :func:`beta_for_r0`; returns beta [per contact] likewise.
+
+    References
+    ----------
+    Wallinga J., Lipsitch M. (2007). Proc. R. Soc. B 274:599-604.
+    Wearing H.J., Rohani P., Keeling M.J. (2005). Appropriate models for the
+    management of infectious diseases. PLoS Medicine 2:e174.
+    doi:10.1371/journal.pmed.0020174
+    """
+    f_mat, v_mat, entries = infected_subsystem(pc, layout, beta=1.0)
+    slowest = float(np.min(np.diag(v_mat)))
+    if target_r <= -slowest:
+        raise ModelError(
+            f"growth rate {target_r:.4g}/day is below what any transmission can give "
+            f"(-{slowest:.4g}/day)"
+        )
+    shifted = v_mat + target_r * np.eye(v_mat.shape[0])
+    unit = spectral_radius(next_generation_matrix(f_mat, shifted, entries))
+    if not (unit > 0.0 and math.isfinite(1.0 / unit)):
+        raise ModelError("nobody can infect anybody")
+    return 1.0 / unit
 
 
 def test_latin_hypercube_hits_every_stratum_once():
