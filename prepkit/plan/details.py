@@ -6,10 +6,12 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import Literal
 
-__all__ = ["Details", "PageSize"]
+__all__ = ["Details", "ObservedPeriod", "PageSize"]
 
 
 PageSize = Literal["A4", "Letter"]
+
+ObservedPeriod = Literal["daily", "weekly"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -34,6 +36,9 @@ class Details:
         Random seed for the uncertainty draws.
     page_size : {"A4", "Letter"}
         Paper size of the briefing pack.
+    observed_period : {"daily", "weekly"}
+        Whether each observed row holds one day's figures or a week's
+        totals ending on its date (census figures are on the date either way).
     """
 
     jurisdiction: str
@@ -44,3 +49,4 @@ class Details:
     draws: int
     seed: int
     page_size: PageSize
+    observed_period: ObservedPeriod = "daily"

@@ -12,6 +12,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from prepkit.plan import Plan
+from prepkit.plan.records import admissions_per_day
 from prepkit.report.charts_base import (
     WITH_STYLE,
     Chart,
@@ -67,10 +68,13 @@ def admissions_chart(
     """
     rows, cols = _panel_grid(len(views))
     observed = [
-        (o.date, o.admissions)
-        for o in plan.observed
-        if o.admissions is not None and window[0] <= o.date <= window[1]
+        (day, rate)
+        for day, rate in admissions_per_day(plan.observed, plan.details.observed_period)
+        if window[0] <= day <= window[1]
     ]
+
+    observed_label = ("Observed, weekly mean"
+                      if plan.details.observed_period == "weekly" else "Observed admissions")
 
     def draw(fig: Figure) -> None:
         axes = np.atleast_1d(fig.subplots(rows, cols, sharex=True, sharey=True, squeeze=False))
@@ -87,7 +91,7 @@ def admissions_chart(
             if observed:
                 ax.plot([np.datetime64(d) for d, _ in observed], [v for _, v in observed],
                         linestyle="none", marker="o", markersize=3, color=CSS_COLORS["ink"],
-                        markerfacecolor="white", label="Observed admissions")
+                        markerfacecolor="white", label=observed_label)
             ax.set_title(wrap_label(view.name, 42), loc="left", fontsize=9, fontweight="bold")
             beds_axis(ax)
             date_axis(ax, window)

@@ -6,7 +6,7 @@ import datetime as dt
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from prepkit.workbook import schema, validate, validate_measures
+from prepkit.workbook import schema, validate, validate_measures, validate_observed
 from prepkit.workbook.cells import Got, Key, TableRow, normalise_key
 from prepkit.workbook.load import Grid
 from prepkit.workbook.matrices import Matrix, MatrixReader
@@ -97,7 +97,10 @@ class CrossChecks(MatrixReader):
             self.problems += validate_measures.check_scenarios(
                 self.tables["scenarios"], measure_names, self.empty_cells["scenarios"],
                 self.title(SCENARIOS))
-        self.problems += validate_measures.check_observed(self.tables["observed"])
+        self.problems += validate_observed.check_observed(
+            self.tables["observed"], items,
+            day0 if isinstance(day0, dt.date) else None,
+            horizon if isinstance(horizon, int) else None)
         if self.errors or bands is None:
             return None
         return Checked(bands=band_rows, per_band=per_band, matrices=matrices)

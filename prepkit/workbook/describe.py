@@ -96,7 +96,8 @@ def describe_plan(plan: Plan, warnings: Sequence[Problem] = ()) -> str:
             f"  {scenario.name}: transmissibility {scenario.transmissibility_level}, "
             f"severity {scenario.severity_level}; {measures}"
         )
-    lines.append(f"Observed days: {len(plan.observed)}")
+    period = "weekly totals" if plan.details.observed_period == "weekly" else "daily figures"
+    lines.append(f"Observed rows: {len(plan.observed)} ({period})")
     if plan.source.path:
         lines.append(f"Read from {plan.source.path} ({len(plan.source.inputs)} inputs, "
                      f"SHA-256 {plan.source.sha256[:12]}...)")

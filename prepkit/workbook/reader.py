@@ -167,7 +167,10 @@ class _Reader(CrossChecks):
             ([item_header.row] if item_header else [])
             + [h.row for h in table_headers.values() if h is not None]
         )
-        if grid is not None and item_fields and item_header is None:
+        # An optional sheet whose items all have defaults may lack its item block (an
+        # Observed sheet from before it had one means daily figures).
+        items_needed = sheet in REQUIRED_SHEETS or any(f.default is None for f in item_fields)
+        if grid is not None and item_fields and item_header is None and items_needed:
             self.report(title, "", ITEM_HEADER,
                         f"a header row with '{ITEM_HEADER}' and "
                         f"'{VALUE_HEADER}' (or '{CENTRAL_HEADER}') columns",

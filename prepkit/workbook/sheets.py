@@ -92,12 +92,14 @@ SHEET_PURPOSE: dict[str, str] = {
         "One row per scenario: which transmissibility and severity level, and which measures. "
         "Every scenario is also run without its measures for comparison."
     ),
-    OBSERVED: "Optional hospital figures seen so far, drawn beside the model curves.",
+    OBSERVED: "Optional local figures seen so far: admissions, patients in beds, deaths and test "
+              "positivity, daily or weekly, drawn beside the model curves.",
 }
 
 #: Choice lists (what the planner sees -> canonical value).
 LEVEL_CHOICES: dict[str, Level] = {"Low": "low", "Central": "central", "High": "high"}
 PAGE_CHOICES: dict[str, str] = {"A4": "A4", "Letter": "Letter"}
+PERIOD_CHOICES: dict[str, str] = {"Daily": "daily", "Weekly totals": "weekly"}
 KIND_CHOICES: dict[str, str] = {
     "Fewer contacts": "contacts",
     "Vaccination": "vaccination",

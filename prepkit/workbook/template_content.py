@@ -79,8 +79,7 @@ class SheetContent:
                 for s in plan.scenarios
             ],
             "observed": [
-                {"observed.date": o.date, "observed.admissions": o.admissions,
-                 "observed.ward_census": o.ward_census, "observed.icu_census": o.icu_census}
+                {f.name: getattr(o, f.attribute) for f in schema.table_fields("observed")}
                 for o in plan.observed
             ],
         }

@@ -1,4 +1,4 @@
-"""Checks of the Measures, Scenarios and Observed tables (see :mod:`prepkit.workbook.validate`)."""
+"""Checks of the Measures and Scenarios tables (see :mod:`prepkit.workbook.validate`)."""
 
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ from prepkit.workbook.parse import percent_hint
 from prepkit.workbook.schema import FIELDS_BY_NAME
 from prepkit.workbook.validate import duplicate_keys, number_of, problem, shown
 
-__all__ = ["check_measures", "check_observed", "check_scenarios"]
+__all__ = ["check_measures", "check_scenarios"]
 
 _OCCUPANCY_EXPECTED = "a share of the beds between 0 and 1 (e.g. 80% or 0.8)"
 
@@ -178,7 +178,7 @@ def _check_vaccination(row: TableRow, bands: Sequence[str] | None) -> list[Probl
     return problems
 
 
-# ---- Scenarios and observed days --------------------------------------------------------------
+# ---- Scenarios --------------------------------------------------------------
 
 def check_scenarios(
     rows: Sequence[TableRow], measures: Sequence[str], empty_cell: str, sheet: str
@@ -200,9 +200,3 @@ def check_scenarios(
                     got, f"names from the Measures sheet ({listing})",
                     f'"{entry}", which is not a measure'))
     return problems
-
-
-def check_observed(rows: Sequence[TableRow]) -> list[Problem]:
-    """One row per observed date."""
-    return duplicate_keys(rows, "observed.date", "one row per date")
-

@@ -43,6 +43,7 @@ NEUTRAL_DEFAULTS = {
     "details.draws": "a run setting",
     "details.seed": "a run setting",
     "details.page_size": "a run setting",
+    "details.observed_period": "how the planner's figures are kept",
     "band_contacts.home_share": "0%: the rest are community contacts",
     "band_contacts.school_share": "0%: the rest are community contacts",
     "band_contacts.work_share": "0%: the rest are community contacts",

@@ -479,7 +479,7 @@ def test_describe_plan_summarises_the_plan(plan_path: Path) -> None:
     assert "Isolation: isolation of cases, starts when ward occupancy reaches 80%; ends when " \
            "the level falls to 50%" in text
     assert "All measures: transmissibility high, severity low" in text
-    assert "Observed days: 3" in text
+    assert "Observed rows: 3 (daily figures)" in text
     assert "No warnings." in text
 
 
@@ -493,7 +493,8 @@ def test_describe_problems_lists_each_problem_under_a_count(template_path: Path)
 
 @pytest.mark.filterwarnings("ignore:File may not be readable")
 def test_observed_sheet_without_its_header_is_ignored_with_a_warning(editor: Editor) -> None:
-    editor.wb[OBSERVED].delete_rows(4)
+    ws = editor.wb[OBSERVED]
+    ws.delete_rows(next(c.row for c in ws["A"] if c.value == "Date"))
     read, warnings = editor.read()
     assert read.observed == ()
     assert [(w.sheet, w.field) for w in warnings] == [(OBSERVED, "Date")]

@@ -95,9 +95,16 @@ def limitations(plan: Plan, *, ensemble: bool = False) -> tuple[tuple[str, str],
         points.append(
             (
                 "Observed figures",
-                f"The {format_days(len(plan.observed))} of observed hospital figures are drawn "
+                f"The {_observed_span(plan)} of observed hospital figures are drawn "
                 "beside the model curves for comparison only; the model is not fitted to them.",
             )
         )
     return tuple(points)
 
+
+def _observed_span(plan: Plan) -> str:
+    """How much was observed: ``10 days`` of daily figures, ``1 week`` or ``6 weeks`` of totals."""
+    count = len(plan.observed)
+    if plan.details.observed_period == "weekly":
+        return "1 week" if count == 1 else f"{count:,} weeks"
+    return format_days(count)
