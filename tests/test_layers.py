@@ -2,7 +2,7 @@
 
 The layers, bottom to top: ``errors`` and ``base``, then
 ``plan``, ``workbook``, ``simulation``, ``metrics``, ``scenarios``,
-``uncertainty``, ``report``, ``pipeline`` and ``cli``. Each module is parsed
+``uncertainty``, ``fitting``, ``report``, ``pipeline`` and ``cli``. Each module is parsed
 (never imported) and every import in it counts: at the top, inside functions,
 and under ``if TYPE_CHECKING:``.
 """
@@ -26,6 +26,7 @@ LAYERS: tuple[tuple[str, ...], ...] = (
     ("metrics",),
     ("scenarios",),
     ("uncertainty",),
+    ("fitting",),
     ("report",),
     ("pipeline",),
     ("cli",),
