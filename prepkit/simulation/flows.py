@@ -97,7 +97,7 @@ from prepkit.simulation.layout import (
 )
 from prepkit.simulation.seasonality import season_factor
 
-KERNEL_SOURCES = "e38e9c63a41ee3ea"
+KERNEL_SOURCES = "5c7b41a9f5c473e1"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

@@ -66,7 +66,7 @@ from prepkit.simulation.run_checks import (
 )
 from prepkit.simulation.step_rule import advance_day, day_rates
 
-KERNEL_SOURCES = "e38e9c63a41ee3ea"
+KERNEL_SOURCES = "5c7b41a9f5c473e1"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 
@@ -175,7 +175,7 @@ def _record_failure(
 
 @njit(parallel=True, cache=True)
 def run_draws(
-    y0: NDArray[np.float64], pcs: NDArray[np.float64], lay: NDArray[np.int64],
+    y0s: NDArray[np.float64], pcs: NDArray[np.float64], lay: NDArray[np.int64],
     itabs: NDArray[np.float64], iprio: NDArray[np.int64], cap: NDArray[np.float64],
     horizon: int, floors: NDArray[np.int64], limit: float, force_limit: float, most: int,
     employed: NDArray[np.float64], series: NDArray[np.float32] | NDArray[np.float64],
@@ -197,8 +197,8 @@ def run_draws(
 
     Parameters
     ----------
-    y0 : ndarray
-        State at day 0 (the same for every draw).
+    y0s : ndarray, shape (draws, size)
+        State at day 0 of each draw.
     pcs : ndarray, shape (draws, parameters)
         Parameter vector of each draw.
     lay, iprio, cap : ndarray
@@ -235,11 +235,11 @@ def run_draws(
         day failed stops there.
     """
     people = lay[LAY_OFFSET + BLK_CUM_INF]
-    reference = 0.0
-    for q in range(people):
-        reference += y0[q]
     for d in prange(pcs.shape[0]):
-        y = y0.copy()
+        y = y0s[d].copy()
+        reference = 0.0
+        for q in range(people):
+            reference += y[q]
         steps[d] = _run_draw(d, y, pcs[d], lay, itabs[d], iprio, cap, horizon, floors[d], limit,
                              force_limit, most, employed, series, peaks, peak_days, reports[d],
                              people, reference)

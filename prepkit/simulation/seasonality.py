@@ -13,7 +13,7 @@ import math
 
 from numba import njit
 
-KERNEL_SOURCES = "e38e9c63a41ee3ea"
+KERNEL_SOURCES = "5c7b41a9f5c473e1"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

@@ -93,6 +93,7 @@ def simulate_draws(
     dtype: type[np.floating[Any]] = np.float32,
     on_block: Callable[[int], None] | None = None,
     what: str = "uncertainty draw",
+    initial: NDArray[np.float64] | None = None,
 ) -> DrawSeries:
     """Run every draw of one scenario variant with the compiled parallel loop.
 
@@ -121,6 +122,10 @@ def simulate_draws(
         Called with the number of draws finished after each block.
     what : str
         What a draw is called in an error (e.g. ``"uncertainty draw"``).
+    initial : ndarray, shape (draws, size), optional
+        State at day 0 of each draw [persons]; default ``model.y0`` for all
+        (:func:`prepkit.uncertainty.batch.run_batch` varies the initial
+        infections).
 
     Returns
     -------
@@ -136,7 +141,8 @@ def simulate_draws(
     Notes
     -----
     Memory grows as draws x days x 5 series, never with the number of
-    states: the parameter arrays are built one block at a time.
+    states: the parameter arrays and a float64 copy of the block's series
+    are built one block at a time.
     """
     n = values.size
     days = model.horizon_days
@@ -157,7 +163,10 @@ def simulate_draws(
     for start, stop in zip(edges[:-1], edges[1:], strict=True):
         if stop <= start:
             continue
-        _run_block(model, plan, values, out, slice(start, stop), min_substeps, limits, what)
+        y0s = (np.broadcast_to(model.y0, (stop - start, model.y0.size)) if initial is None
+               else initial[start:stop])
+        _run_block(model, plan, values, out, slice(start, stop), min_substeps, limits, what,
+                   y0s)
         if on_block is not None:
             on_block(stop - start)
     return out
@@ -166,6 +175,7 @@ def simulate_draws(
 def _run_block(
     model: CompiledModel, plan: Plan, values: DrawValues, out: DrawSeries, rows: slice,
     min_substeps: int | None, limits: tuple[float, float, int], what: str,
+    y0s: NDArray[np.float64],
 ) -> None:
     """Run the draws ``rows`` into ``out``; raise the first failing draw's error."""
     part = take_draws(values, np.arange(rows.start, rows.stop))
@@ -174,26 +184,32 @@ def _run_block(
     )
     limit, force_limit, most = limits
     reports = np.zeros((rows.stop - rows.start, REPORT_SIZE))
+    # one argument type for every caller (float32 or float64 output, one block or many,
+    # one draw or many): the kernel writes a float64 C-contiguous block, copied out here
+    # (a float64 to float32 copy rounds as the kernel's own store would), so run_draws
+    # compiles one signature (tests/uncertainty/test_signatures.py)
+    series = np.zeros((out.series.shape[0], rows.stop - rows.start, out.series.shape[2]))
     run_draws(
-        model.y0,
-        pcs,
+        np.array(y0s, dtype=np.float64, order="C"),  # a writable copy: same type every call
+        np.ascontiguousarray(pcs, dtype=np.float64),
         model.lay,
-        np.ascontiguousarray(itabs),
+        np.ascontiguousarray(itabs, dtype=np.float64),
         model.iprio,
         model.cap,
-        model.horizon_days,
-        floors,
-        limit,
-        force_limit,
-        most,
-        employed_weights(plan.bands, plan.workforce),
-        out.series[:, rows, :],
+        int(model.horizon_days),
+        np.ascontiguousarray(floors, dtype=np.int64),
+        float(limit),
+        float(force_limit),
+        int(most),
+        np.ascontiguousarray(employed_weights(plan.bands, plan.workforce), dtype=np.float64),
+        series,
         out.finals[rows],
         out.peaks[rows],
         out.peak_days[rows],
         out.substeps[rows],
         reports,
     )
+    out.series[:, rows, :] = series
     bad = failed_rows(reports)
     if bad.size:
         raise draw_error(model, plan, part, pcs, reports, int(bad[0]), first=rows.start,
