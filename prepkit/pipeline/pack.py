@@ -9,7 +9,6 @@ and the tagged PDF, the results workbook, the CSV files and the JSON summary;
 from __future__ import annotations
 
 import datetime as dt
-import json
 import re
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
@@ -25,7 +24,7 @@ from prepkit.pipeline.jobs import run_jobs
 from prepkit.pipeline.manifest import MANIFEST_NAME
 from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.pipeline.progress import Say
-from prepkit.pipeline.summary import summary_dict
+from prepkit.pipeline.summary import summary_bytes
 from prepkit.plan import Plan
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
 from prepkit.report.render import html_to_pdf, render_html, templates_dir
@@ -37,7 +36,7 @@ from prepkit.report.words.views import ScenarioView, scenario_views
 from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.results import UncertaintyResults
 
-__all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "summary_bytes", "write_pack"]
+__all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "write_pack"]
 
 #: File of the daily uncertainty bands (only when the ensemble ran).
 UNCERTAINTY_CSV = "uncertainty-daily.csv"
@@ -88,27 +87,6 @@ def _standalone_css() -> str:
     """
     css = (templates_dir() / "pack.css").read_text(encoding="utf-8")
     return _FONT_FACE.sub("", css)
-
-
-def summary_bytes(
-    plan: Plan,
-    results: PlanResults,
-    ensemble_summary: dict[str, Any] | None,
-    generated: dt.datetime,
-) -> bytes:
-    """``summary.json``: every metric, the run's details and the ensemble's summary."""
-    payload = summary_dict(plan, results)
-    payload["run"] = {
-        "prepkit_version": __version__,
-        "generated": generated.astimezone(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "input_file": Path(plan.source.path).name if plan.source.path else "",
-        "input_sha256": plan.source.sha256,
-        "seed": plan.details.seed,
-        "draws": plan.details.draws,
-    }
-    if ensemble_summary is not None:
-        payload["uncertainty"] = ensemble_summary
-    return (json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()
 
 
 def _figures(

@@ -35,9 +35,9 @@ from prepkit.pipeline.first_use import first_use_note
 from prepkit.pipeline.guard import check_draws_option, check_ensemble_memory
 from prepkit.pipeline.manifest import file_sha256
 from prepkit.pipeline.outputs_guard import check_pack_folder, check_summary_path
-from prepkit.pipeline.pack import render_pack, summary_bytes, write_pack
 from prepkit.pipeline.pack_folder import check_output_dir
 from prepkit.pipeline.progress import Say, Steps
+from prepkit.pipeline.summary import summary_bytes
 from prepkit.plan import Plan
 from prepkit.report.words.leader import CAUTION_LINE, bottom_line
 from prepkit.report.words.views import scenario_views
@@ -214,6 +214,9 @@ def run_to_pack(
         if options.summary_json is not None:
             _write_summary(options.summary_json, summary, workbook, None)
         return _closing_report(plan, results, None, options.summary_json)
+
+    # The charts and the PDF renderer are imported only for a pack (not for --summary-only).
+    from prepkit.pipeline.pack import render_pack, write_pack
 
     pack = render_pack(plan, results, ensemble=ensemble, generated=generated, say=steps,
                        extra_files=extra_files, notes=notes)

@@ -7,8 +7,12 @@ and infinities become None; numpy numbers become Python numbers.
 
 from __future__ import annotations
 
+import datetime as dt
+import json
+from pathlib import Path
 from typing import Any
 
+from prepkit import __version__
 from prepkit.base.json_values import jsonable
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults, ScenarioRun
@@ -82,3 +86,24 @@ def summary_dict(plan: Plan, results: PlanResults) -> dict[str, Any]:
         },
         "scenarios": scenarios,
     }
+
+
+def summary_bytes(
+    plan: Plan,
+    results: PlanResults,
+    ensemble_summary: dict[str, Any] | None,
+    generated: dt.datetime,
+) -> bytes:
+    """``summary.json``: every metric, the run's details and the ensemble's summary."""
+    payload = summary_dict(plan, results)
+    payload["run"] = {
+        "prepkit_version": __version__,
+        "generated": generated.astimezone(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "input_file": Path(plan.source.path).name if plan.source.path else "",
+        "input_sha256": plan.source.sha256,
+        "seed": plan.details.seed,
+        "draws": plan.details.draws,
+    }
+    if ensemble_summary is not None:
+        payload["uncertainty"] = ensemble_summary
+    return (json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()
