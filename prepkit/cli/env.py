@@ -14,10 +14,9 @@ speak.
   be written. Then the model is compiled into a temporary folder for this
   run only, with a note saying so; the folder is removed at the end
   (:func:`remove_temporary_folders`).
-* :func:`prefer_single_threaded_blas`: small eigenproblems and matrix
-  products run faster on one thread than on many, so before numpy loads,
-  OpenBLAS and MKL are asked for one thread (only where the environment does
-  not already say otherwise).
+* BLAS threads are not set here: the library limits them around its own
+  work (:mod:`prepkit.base.blas`), for the command line and the Python API
+  alike.
 * :func:`in_ci` and :func:`on_terminal`: whether the run is under continuous
   integration (the ``CI`` variable), where step messages are left out, and
   whether progress goes to a terminal, where a progress bar may be drawn.
@@ -44,7 +43,6 @@ __all__ = [
     "in_ci",
     "on_terminal",
     "os_error_message",
-    "prefer_single_threaded_blas",
 ]
 
 #: Module holding the model's compiled (numba) kernels.
@@ -118,19 +116,6 @@ def compiled_model() -> Iterator[str | None]:
         yield CACHE_NOTE
     finally:
         shutil.rmtree(folder, ignore_errors=True)
-
-
-def prefer_single_threaded_blas() -> None:
-    """Default BLAS libraries to one thread, if numpy is not loaded yet.
-
-    The settings are read once, when numpy loads its BLAS library; after
-    that, changing them has no effect, so this does nothing then. Values a
-    user has set are kept.
-    """
-    if "numpy" in sys.modules:
-        return
-    for name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
-        os.environ.setdefault(name, "1")
 
 
 def in_ci() -> bool:

@@ -224,7 +224,6 @@ def _dispatch(args: argparse.Namespace) -> int:
     if args.command != "check":  # the commands that stamp a time on what they write
         cli_env.check_environment()
     if args.command in ("run", "watch", "demo"):
-        cli_env.prefer_single_threaded_blas()  # before numpy loads, the only time it counts
         with cli_env.compiled_model() as note:
             if note is not None and not getattr(args, "quiet", False):
                 print(note, file=sys.stderr)

@@ -19,15 +19,18 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
+from functools import partial
 from typing import Any, Generic, Literal, TypeVar
 
 import pandas as pd
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.errors import ModelError
 from prepkit.metrics.core import InterventionEffect, ScenarioMetrics, intervention_effect
 from prepkit.plan import LEVELS, Level, Plan, Scenario
 from prepkit.scenarios.daily import run_outputs
 from prepkit.simulation.compile import CompiledModel, compile_model, transmissibility_of
+from prepkit.simulation.identity import Shared, model_key
 from prepkit.simulation.inputs import ResolvedInputs, resolve_inputs, validate_plan
 from prepkit.simulation.simulate import Trajectory, simulate
 from prepkit.simulation.transmissibility import Transmissibility
@@ -157,6 +160,7 @@ def _scenario(plan: Plan, scenario: Scenario | str) -> Scenario:
         raise ModelError(f"the plan has no scenario named {scenario!r}") from None
 
 
+@one_blas_thread
 def compile_scenario(
     plan: Plan,
     scenario: Scenario | str,
@@ -197,6 +201,7 @@ def compile_scenario(
     )
 
 
+@one_blas_thread
 def run_scenario(
     plan: Plan,
     scenario: Scenario | str,
@@ -239,8 +244,14 @@ def run_scenario(
     return build_run(plan, chosen, model, trajectory, transmissibility_of(model))
 
 
+@one_blas_thread
 def run_plan(plan: Plan, *, substeps: int | None = None) -> PlanResults:
     """Simulate every scenario of a plan with and without its interventions.
+
+    Identical variants (the same :func:`prepkit.simulation.identity.model_key`,
+    e.g. the runs without measures of two scenarios at the same levels) are
+    simulated once and share their trajectory, daily tables, metrics and
+    transmissibility figures; each keeps its own scenario name and inputs.
 
     Parameters
     ----------
@@ -255,6 +266,7 @@ def run_plan(plan: Plan, *, substeps: int | None = None) -> PlanResults:
         Results by scenario and the transmissibility table by level.
     """
     validate_plan(plan)
+    shared = Shared()
     out = []
     for scenario in plan.scenarios:
         inputs = resolve_inputs(plan, scenario)
@@ -263,11 +275,12 @@ def run_plan(plan: Plan, *, substeps: int | None = None) -> PlanResults:
             model = compile_model(
                 plan, scenario, inputs, with_interventions=flag, substeps=substeps
             )
+            key = model_key(model)
             if not flag:
-                table = transmissibility_of(model)
-            runs[flag] = (model, simulate(model))
-        with_run = build_run(plan, scenario, *runs[True], table)
-        without_run = build_run(plan, scenario, *runs[False], table)
+                table = shared.once("transmissibility", key, partial(transmissibility_of, model))
+            runs[flag] = (model, shared.once("trajectory", key, partial(simulate, model)))
+        with_run = build_run(plan, scenario, *runs[True], table, shared=shared)
+        without_run = build_run(plan, scenario, *runs[False], table, shared=shared)
         out.append(
             ScenarioResults(
                 scenario=scenario,
@@ -276,10 +289,14 @@ def run_plan(plan: Plan, *, substeps: int | None = None) -> PlanResults:
                 effect=intervention_effect(with_run.metrics, without_run.metrics),
             )
         )
-    return PlanResults(scenarios=tuple(out), transmissibility_by_level=transmissibility_table(plan))
+    return PlanResults(scenarios=tuple(out),
+                       transmissibility_by_level=transmissibility_table(plan, _shared=shared))
 
 
-def transmissibility_table(plan: Plan) -> dict[Level, Transmissibility]:
+@one_blas_thread
+def transmissibility_table(
+    plan: Plan, *, _shared: Shared | None = None
+) -> dict[Level, Transmissibility]:
     """Transmissibility figures at each level (central severity, no interventions).
 
     Parameters
@@ -294,6 +311,7 @@ def transmissibility_table(plan: Plan) -> dict[Level, Transmissibility]:
         the high R0 or growth rate, or the *low* doubling time.
     """
     validate_plan(plan)
+    shared = Shared() if _shared is None else _shared
     out: dict[Level, Transmissibility] = {}
     for level in LEVELS:
         probe = Scenario(
@@ -303,7 +321,8 @@ def transmissibility_table(plan: Plan) -> dict[Level, Transmissibility]:
             interventions=(),
         )
         model = compile_model(plan, probe, resolve_inputs(plan, probe), with_interventions=False)
-        out[level] = transmissibility_of(model)
+        out[level] = shared.once("transmissibility", model_key(model),
+                                 partial(transmissibility_of, model))
     return out
 
 
@@ -313,6 +332,8 @@ def build_run(
     model: CompiledModel,
     trajectory: Trajectory,
     transmissibility: Transmissibility,
+    *,
+    shared: Shared | None = None,
 ) -> ScenarioRun:
     """Turn a trajectory into daily series and metrics.
 
@@ -328,13 +349,18 @@ def build_run(
         Its simulated states.
     transmissibility : Transmissibility
         Its transmissibility figures.
+    shared : Shared, optional
+        Daily tables and metrics already made for an identical run (the same
+        :func:`prepkit.simulation.identity.model_key`), handed out again.
 
     Returns
     -------
     ScenarioRun
         The assembled run.
     """
-    daily, by_band, metrics = run_outputs(plan, model, trajectory)
+    make = partial(run_outputs, plan, model, trajectory)
+    daily, by_band, metrics = make() if shared is None else shared.once(
+        "outputs", model_key(model), make)
     return ScenarioRun(
         scenario=scenario.name,
         variant="with" if model.with_interventions else "without",

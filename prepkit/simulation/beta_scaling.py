@@ -36,6 +36,7 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.errors import ModelError
 from prepkit.simulation.layout import (
     N_SETTINGS,
@@ -97,6 +98,7 @@ def _unit_radius(base: NDArray[np.float64], weights: NDArray[np.float64]) -> NDA
     return np.concatenate(in_threads(spectral_radius, parts)) if parts else np.empty(0)
 
 
+@one_blas_thread
 def beta_for_targets(
     pc: NDArray[np.float64],
     layout: StateLayout,

@@ -35,6 +35,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.errors import ModelError
 from prepkit.plan import Plan, Scenario
 from prepkit.simulation.draw_values import DrawValues
@@ -190,6 +191,7 @@ def seasonal_peak_day(day0: dt.date, peak: dt.date | None) -> float:
     raise AssertionError("unreachable")  # pragma: no cover
 
 
+@one_blas_thread
 def compile_model(
     plan: Plan,
     scenario: Scenario,
@@ -268,6 +270,7 @@ def compile_model(
     )
 
 
+@one_blas_thread
 def transmissibility_of(model: CompiledModel) -> Transmissibility:
     """Transmissibility figures of a compiled run.
 

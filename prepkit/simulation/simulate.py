@@ -23,6 +23,7 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy.integrate import solve_ivp
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.errors import ModelError
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.decisions import decide_day
@@ -57,6 +58,7 @@ class Trajectory:
     report: NDArray[np.float64]
 
 
+@one_blas_thread
 def simulate(
     model: CompiledModel,
     *,
@@ -127,6 +129,7 @@ def simulate(
     return Trajectory(states=states, active=active.astype(bool), substeps=steps, report=report)
 
 
+@one_blas_thread
 def simulate_reference(
     model: CompiledModel,
     *,

@@ -33,6 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.simulation.layout import (
     N_SETTINGS,
     P_SUSCEPTIBILITY,
@@ -128,6 +129,7 @@ class Transmissibility:
     r_effective_day0: float
 
 
+@one_blas_thread
 def reproduction_number(
     pc: NDArray[np.float64], layout: StateLayout, **conditions: object
 ) -> float:
@@ -158,6 +160,7 @@ def reproduction_number(
     return spectral_radius(next_generation_matrix(f_mat, v_mat, entries))
 
 
+@one_blas_thread
 def growth_rate(pc: NDArray[np.float64], layout: StateLayout, **conditions: object) -> float:
     """Early exponential growth rate, the dominant eigenvalue of ``F - V`` [1/day].
 
@@ -171,6 +174,7 @@ def growth_rate(pc: NDArray[np.float64], layout: StateLayout, **conditions: obje
     return spectral_abscissa(f_mat - v_mat)
 
 
+@one_blas_thread
 def mean_generation_time(
     pc: NDArray[np.float64], layout: StateLayout, **conditions: object
 ) -> float:

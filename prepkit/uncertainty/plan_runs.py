@@ -5,6 +5,14 @@ so differences between scenarios are not sampling noise. The variants run
 here, one after another on every core, or as tasks on any
 ``concurrent.futures`` executor (e.g. a Dask cluster) with the same results.
 Progress goes to a callback only: drawing a bar is the caller's business.
+
+Identical variants are computed once: the variants are grouped by
+:func:`prepkit.uncertainty.run.ensemble_key` (equal keys: the same numbers
+reach the solver for every draw, see :mod:`prepkit.simulation.identity`),
+each group runs its draws and tornado once (here, or as one task on the
+executor) and every member gets its own result from them. On the sample
+city, the runs without measures of the two scenarios at central levels are
+one group.
 """
 
 from __future__ import annotations
@@ -17,8 +25,11 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-from prepkit.plan import Plan
-from prepkit.scenarios.runs import PlanResults
+from prepkit.base.blas import one_blas_thread
+from prepkit.errors import PrepkitError
+from prepkit.plan import Plan, Scenario
+from prepkit.scenarios.runs import PlanResults, ScenarioRun
+from prepkit.simulation.identity import Shared
 from prepkit.simulation.inputs import validate_plan
 from prepkit.uncertainty.ensemble import DEFAULT_BLOCKS
 from prepkit.uncertainty.fields import plan_dimensions, sample_quantiles
@@ -29,7 +40,7 @@ from prepkit.uncertainty.results import (
     ScenarioUncertainty,
     UncertaintyResults,
 )
-from prepkit.uncertainty.run import ValueCache, run_ensemble
+from prepkit.uncertainty.run import ValueCache, ensemble_key, run_ensemble
 from prepkit.uncertainty.summaries import reported_quantiles
 
 Progress = Callable[[int, int], None] | None
@@ -50,6 +61,7 @@ def _progress_ticker(progress: Progress, total: int) -> Callable[[int], None]:
     return tick
 
 
+@one_blas_thread
 def run_uncertainty(
     plan: Plan,
     results: PlanResults | None = None,
@@ -121,6 +133,91 @@ def run_uncertainty(
     )
 
 
+Member = tuple[Scenario, bool, ScenarioRun | None]
+"""A variant: its scenario, True with its interventions, and the engine's run of it."""
+
+
+def _members(plan: Plan, results: PlanResults | None) -> list[Member]:
+    """Every variant in plan order: each scenario with, then without, its interventions."""
+    out: list[Member] = []
+    for scenario in plan.scenarios:
+        for flag in (True, False):
+            run = None
+            if results is not None:
+                run = results[scenario.name].variant("with" if flag else "without")
+            out.append((scenario, flag, run))
+    return out
+
+
+def _groups(plan: Plan, members: list[Member], sample: NDArray[np.float64],
+            min_substeps: int | None, blocks: int, cache: ValueCache) -> list[list[int]]:
+    """Indices of ``members`` grouped by equal ensemble key, groups in order of first member.
+
+    A variant whose key cannot be made (its plan fails to compile) is a group
+    of its own, so that its error is raised where it was before.
+    """
+    groups: dict[str, list[int]] = {}
+    for index, (scenario, flag, _) in enumerate(members):
+        try:
+            key = ensemble_key(plan, scenario, flag, sample, min_substeps=min_substeps,
+                               blocks=blocks, cache=cache)
+        except PrepkitError:
+            key = f"unique {index}"
+        groups.setdefault(key, []).append(index)
+    return list(groups.values())
+
+
+def run_group(
+    plan: Plan,
+    group: Sequence[Member],
+    *,
+    sample: NDArray[np.float64],
+    seed: int,
+    quantiles: tuple[float, ...],
+    min_substeps: int | None,
+    blocks: int,
+    on_block: Callable[[int], None] | None = None,
+    cache: ValueCache | None = None,
+) -> list[EnsembleResult]:
+    """The ensembles of variants with one key: draws and tornado run once, then shared.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan.
+    group : sequence of (Scenario, bool, ScenarioRun or None)
+        The variants: scenario, with interventions, and the engine's run.
+    sample, seed, quantiles, min_substeps, blocks, on_block
+        As for :func:`prepkit.uncertainty.run.run_ensemble`.
+    cache : ValueCache, optional
+        PERT values shared between scenarios.
+
+    Returns
+    -------
+    list of EnsembleResult
+        One per variant, in the order given.
+    """
+    shared = Shared()
+    return [
+        run_ensemble(plan, scenario, flag, sample=sample, seed=seed, quantiles=quantiles,
+                     scenario_run=run, min_substeps=min_substeps, blocks=blocks,
+                     on_block=on_block, _cache=cache, _shared=shared)
+        for scenario, flag, run in group
+    ]
+
+
+def _paired(plan: Plan, members: list[Member],
+            got: dict[int, EnsembleResult]) -> tuple[ScenarioUncertainty, ...]:
+    """Results by variant index, paired by scenario in plan order."""
+    count = len(plan.scenarios)
+    assert len(members) == 2 * count
+    return tuple(
+        ScenarioUncertainty(scenario=scenario.name, with_interventions=got[2 * i],
+                            without_interventions=got[2 * i + 1])
+        for i, scenario in enumerate(plan.scenarios)
+    )
+
+
 def _run_here(
     plan: Plan,
     results: PlanResults | None,
@@ -132,26 +229,16 @@ def _run_here(
     blocks: int,
     tick: Callable[[int], None],
 ) -> tuple[ScenarioUncertainty, ...]:
-    """Both variants of every scenario in this process, PERT values shared between them."""
+    """Every variant in this process, one group of identical variants at a time."""
     cache = ValueCache(sample)
-    out = []
-    for scenario in plan.scenarios:
-        pair = {}
-        for flag in (True, False):
-            run = None
-            if results is not None:
-                run = results[scenario.name].variant("with" if flag else "without")
-            pair[flag] = run_ensemble(
-                plan, scenario, flag, sample=sample, seed=seed, quantiles=quantiles,
-                scenario_run=run, min_substeps=min_substeps, blocks=blocks,
-                on_block=tick, _cache=cache,
-            )
-        out.append(ScenarioUncertainty(
-            scenario=scenario.name,
-            with_interventions=pair[True],
-            without_interventions=pair[False],
-        ))
-    return tuple(out)
+    members = _members(plan, results)
+    got: dict[int, EnsembleResult] = {}
+    for group in _groups(plan, members, sample, min_substeps, blocks, cache):
+        done = run_group(plan, [members[i] for i in group], sample=sample, seed=seed,
+                         quantiles=quantiles, min_substeps=min_substeps, blocks=blocks,
+                         on_block=tick, cache=cache)
+        got.update(zip(group, done, strict=True))
+    return _paired(plan, members, got)
 
 
 def _run_uncertainty_elsewhere(
@@ -168,30 +255,24 @@ def _run_uncertainty_elsewhere(
     progress: Progress,
     started: float,
 ) -> UncertaintyResults:
-    """:func:`run_uncertainty` with one task per scenario variant on ``executor``."""
+    """:func:`run_uncertainty` with one task per group of identical variants on ``executor``."""
     count = int(sample.shape[0])
-    futures: dict[tuple[str, bool], Future[EnsembleResult]] = {}
-    for scenario in plan.scenarios:
-        for flag in (True, False):
-            run = None
-            if results is not None:
-                run = results[scenario.name].variant("with" if flag else "without")
-            futures[scenario.name, flag] = executor.submit(
-                run_ensemble, plan, scenario, flag, sample=sample, seed=seed,
-                quantiles=quantiles, scenario_run=run, min_substeps=min_substeps, blocks=blocks,
-            )
-    tick = _progress_ticker(progress, count * len(futures))
-    for _done in as_completed(futures.values()):
-        tick(count)
-    out = tuple(
-        ScenarioUncertainty(
-            scenario=scenario.name,
-            with_interventions=futures[scenario.name, True].result(),
-            without_interventions=futures[scenario.name, False].result(),
+    members = _members(plan, results)
+    groups = _groups(plan, members, sample, min_substeps, blocks, ValueCache(sample))
+    futures: dict[Future[list[EnsembleResult]], list[int]] = {}
+    for group in groups:
+        future = executor.submit(
+            run_group, plan, [members[i] for i in group], sample=sample, seed=seed,
+            quantiles=quantiles, min_substeps=min_substeps, blocks=blocks,
         )
-        for scenario in plan.scenarios
-    )
+        futures[future] = group
+    tick = _progress_ticker(progress, count * len(members))
+    for done in as_completed(futures):
+        tick(count * len(futures[done]))
+    got: dict[int, EnsembleResult] = {}
+    for future, group in futures.items():
+        got.update(zip(group, future.result(), strict=True))
     return UncertaintyResults(
-        draws=count, seed=seed, quantiles=quantiles, dimensions=dims, scenarios=out,
-        seconds=time.perf_counter() - started,
+        draws=count, seed=seed, quantiles=quantiles, dimensions=dims,
+        scenarios=_paired(plan, members, got), seconds=time.perf_counter() - started,
     )

@@ -30,6 +30,12 @@ Sampling rules in words
   without interventions), so differences between them are not sampling
   noise. Intervention fields have no effect on the runs without
   interventions.
+* Identical variants: the runs without measures of two scenarios at the
+  same levels read the same draws (the same quantile columns through the
+  same ranges; the draws of their measures are read by neither run), so
+  when their keys (:func:`prepkit.simulation.identity.draws_key`) are equal
+  their draws and tornado are computed once and shared, and each keeps its
+  own tables (its scenario's name, fields and run).
 * Consistency: a drawn admitted share above the drawn symptomatic share is
   cut to it (as in every run); a drawn efficacy against admission below the
   drawn efficacy against infection is raised to it.
@@ -57,9 +63,12 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.plan import Plan, Scenario
 from prepkit.scenarios.runs import ScenarioRun, compile_scenario
+from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.draw_values import DrawValues
+from prepkit.simulation.identity import Shared, draws_key
 from prepkit.simulation.inputs import validate_plan
 from prepkit.uncertainty.draws import values_from
 from prepkit.uncertainty.ensemble import DEFAULT_BLOCKS, simulate_draws
@@ -73,7 +82,7 @@ from prepkit.uncertainty.results import DEFAULT_QUANTILES, EnsembleResult
 from prepkit.uncertainty.summaries import ensemble_result, reported_quantiles
 from prepkit.uncertainty.tornado import tornado
 
-__all__ = ["ValueCache", "draw_values", "run_ensemble"]
+__all__ = ["ValueCache", "draw_values", "ensemble_key", "run_ensemble"]
 
 
 class ValueCache:
@@ -120,6 +129,47 @@ def draw_values(
     return values_from({item.key: store.values(item) for item in fields}, quantiles.shape[0])
 
 
+def _draws_key(model: CompiledModel, plan: Plan, values: DrawValues,
+               min_substeps: int | None, blocks: int, dtype: Any) -> str:
+    """Key of one variant's draws (everything :func:`simulate_draws` reads or is told)."""
+    return draws_key(model, plan, values, min_substeps, int(blocks), np.dtype(dtype).str)
+
+
+def ensemble_key(
+    plan: Plan,
+    scenario: Scenario,
+    with_interventions: bool,
+    sample: NDArray[np.float64],
+    *,
+    min_substeps: int | None = ENSEMBLE_MIN_SUBSTEPS,
+    blocks: int = DEFAULT_BLOCKS,
+    dtype: type[np.floating[Any]] = np.float32,
+    cache: ValueCache | None = None,
+) -> str:
+    """The key :func:`run_ensemble` shares this variant's draws under (equal: same draws).
+
+    Parameters
+    ----------
+    plan, scenario, with_interventions
+        The variant.
+    sample : ndarray, shape (draws, dimensions)
+        The Latin hypercube quantiles.
+    min_substeps, blocks, dtype
+        As for :func:`run_ensemble`.
+    cache : ValueCache, optional
+        PERT values shared between scenarios.
+
+    Returns
+    -------
+    str
+        :func:`prepkit.simulation.identity.draws_key` of the variant's draws.
+    """
+    model = compile_scenario(plan, scenario, with_interventions)
+    values = draw_values(plan, scenario, sample, cache=cache)
+    return _draws_key(model, plan, values, min_substeps, blocks, dtype)
+
+
+@one_blas_thread
 def run_ensemble(
     plan: Plan,
     scenario: Scenario | str,
@@ -135,6 +185,7 @@ def run_ensemble(
     dtype: type[np.floating[Any]] = np.float32,
     on_block: Callable[[int], None] | None = None,
     _cache: ValueCache | None = None,
+    _shared: Shared | None = None,
 ) -> EnsembleResult:
     """Run the uncertainty ensemble of one scenario variant.
 
@@ -166,7 +217,8 @@ def run_ensemble(
     dtype : numpy float type
         Storage type of the daily series per draw.
     on_block : callable, optional
-        Called with the number of draws finished after each block.
+        Called with the number of draws finished after each block (once with
+        all of them when the draws are shared).
 
     Returns
     -------
@@ -191,10 +243,21 @@ def run_ensemble(
     model = compile_scenario(plan, chosen, with_interventions)
     fields = scenario_fields(plan, chosen)
     values = draw_values(plan, chosen, sample, cache=_cache)
-    runs = simulate_draws(model, plan, values, min_substeps=min_substeps, blocks=blocks,
-                          dtype=dtype, on_block=on_block)
+
+    def simulate() -> Any:
+        return simulate_draws(model, plan, values, min_substeps=min_substeps, blocks=blocks,
+                              dtype=dtype, on_block=on_block)
+
+    if _shared is None:
+        runs = simulate()
+    else:
+        key = _draws_key(model, plan, values, min_substeps, blocks, dtype)
+        known = ("draws", key) in _shared
+        runs = _shared.once("draws", key, simulate)
+        if known and on_block is not None:
+            on_block(values.size)
     return ensemble_result(
         plan, model, scenario=chosen.name, fields=fields, sample=sample, values=values,
-        runs=runs, swings=tornado(plan, model, fields, min_substeps), quantiles=qs,
+        runs=runs, swings=tornado(plan, model, fields, min_substeps, shared=_shared), quantiles=qs,
         seed=used_seed, scenario_run=scenario_run, started=started,
     )

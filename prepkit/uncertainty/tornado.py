@@ -13,10 +13,12 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from prepkit.base.blas import one_blas_thread
 from prepkit.plan import Plan
 from prepkit.simulation.compile import CompiledModel
+from prepkit.simulation.identity import Shared, draws_key
 from prepkit.uncertainty.draw_metrics import draw_scalars, peak_days
-from prepkit.uncertainty.draws import FieldRange, mode_values, values_from
+from prepkit.uncertainty.draws import DrawSeries, FieldRange, mode_values, values_from
 from prepkit.uncertainty.ensemble import simulate_draws
 
 ICU_COLUMNS = ["field", "label", "unit", "per_band", "input_low", "input_high",
@@ -70,11 +72,14 @@ def _sorted(rows: list[dict[str, Any]], columns: list[str], by: str) -> pd.DataF
     return table.sort_values(by, ascending=False, kind="stable").reset_index(drop=True)
 
 
+@one_blas_thread
 def tornado(
     plan: Plan,
     model: CompiledModel,
     fields: Sequence[FieldRange],
     min_substeps: int | None,
+    *,
+    shared: Shared | None = None,
 ) -> tuple[pd.DataFrame, pd.DataFrame, dict[str, float], dict[str, int]]:
     """One-at-a-time swings; also returns the baseline run's scalars and peak days.
 
@@ -89,6 +94,9 @@ def tornado(
         run without interventions, are left out.
     min_substeps : int or None
         Fewest RK4 steps per day (None: the engine's rule).
+    shared : Shared, optional
+        Runs already made for identical inputs (the same
+        :func:`prepkit.simulation.identity.draws_key`), handed out again.
 
     Returns
     -------
@@ -105,10 +113,16 @@ def tornado(
     for k, item in enumerate(relevant):
         for row, end in ((1 + 2 * k, item.low), (2 + 2 * k, item.high)):
             got[item.key][row] = end if item.per_band else end[0]
-    draws = simulate_draws(
-        model, plan, values_from(got, count), min_substeps=min_substeps, blocks=1,
-        dtype=np.float64, what="one-input-at-a-time run",
-    )
+    values = values_from(got, count)
+
+    def simulate() -> DrawSeries:
+        return simulate_draws(
+            model, plan, values, min_substeps=min_substeps, blocks=1,
+            dtype=np.float64, what="one-input-at-a-time run",
+        )
+
+    draws = simulate() if shared is None else shared.once(
+        "tornado", draws_key(model, plan, values, min_substeps, 1, "float64"), simulate)
     scalars, _ = draw_scalars(plan, draws)
     rows_icu, rows_unmet = _rows(
         relevant, scalars["peak_icu_demand_beds"], scalars["total_unmet_bed_days"]
