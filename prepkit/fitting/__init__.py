@@ -1,5 +1,9 @@
 """Fitting to local observed data: the observations, priors, likelihood, sampler and checks.
 
+:func:`prepkit.fitting.fit.fit_plan` is the entry point. The pipeline does not
+call it yet: projections that start from the posterior and the pack's page
+on the local figures are the next step of this stage.
+
 The stage between the ensemble and the pack. Its statistical core works on
 any vectorised simulator that maps parameter sets to expected daily
 admissions, so the same code fits the compiled model (through the batch

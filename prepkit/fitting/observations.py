@@ -18,13 +18,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.plan import Plan
+from prepkit.plan.fit import MIN_FIT_POINTS
 from prepkit.plan.records import DAYS_PER_WEEK
 
 __all__ = ["MIN_POINTS", "FitData", "fit_data", "too_few_points"]
 
-MIN_POINTS: dict[str, int] = {"daily": 10, "weekly": 4}
-"""Fewest rows with admissions worth fitting, by period: fewer cannot tell the growth of
-admissions from their level and from chance. A project rule, stated in the pack."""
+MIN_POINTS = MIN_FIT_POINTS
+"""Fewest rows with admissions worth fitting (:data:`prepkit.plan.fit.MIN_FIT_POINTS`)."""
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)

@@ -65,7 +65,7 @@ class Posterior:
     priors : tuple of Prior
         The fitted inputs, the dispersion ``phi`` last.
     chain : ndarray, shape (steps, walkers, inputs)
-        Every position of every walker.
+        Every position of every walker, in the inputs' own units.
     log_prob : ndarray, shape (steps, walkers)
         Log posterior of each position.
     acceptance : ndarray, shape (walkers,)
@@ -95,14 +95,33 @@ class Posterior:
         return self.samples()[:, self.names.index(name)]
 
 
+def _logged(priors: Sequence[Prior]) -> NDArray[np.bool_]:
+    """Which inputs are sampled as their logarithm (the log-uniform ones)."""
+    return np.array([p.kind == "log_uniform" for p in priors])
+
+
+def to_inputs(walk: NDArray[np.float64], priors: Sequence[Prior]) -> NDArray[np.float64]:
+    """Inputs from sampler coordinates: log-uniform inputs are walked as their logarithm."""
+    x = np.array(walk, dtype=np.float64)
+    logged = _logged(priors)
+    x[..., logged] = np.exp(x[..., logged])
+    return x
+
+
 def log_posterior(
     simulate: Simulator, data: FitData, priors: Sequence[Prior]
 ) -> Callable[[NDArray[np.float64]], NDArray[np.float64]]:
-    """The vectorised log posterior of parameter sets (the last column is ``phi``)."""
+    """The vectorised log posterior of sampler coordinates (the last column is ``phi``).
 
-    def log_prob(theta: NDArray[np.float64]) -> NDArray[np.float64]:
-        sets = np.atleast_2d(np.asarray(theta, dtype=np.float64))
-        total = np.zeros(sets.shape[0])
+    A log-uniform input is walked as its logarithm ``u = log x``, whose
+    density is flat: ``p(u) = p(x) x``, so ``log p(x) + u`` is added.
+    """
+    logged = _logged(priors)
+
+    def log_prob(walk: NDArray[np.float64]) -> NDArray[np.float64]:
+        coordinates = np.atleast_2d(np.asarray(walk, dtype=np.float64))
+        sets = to_inputs(coordinates, priors)
+        total = coordinates[:, logged].sum(axis=1)
         for j, prior in enumerate(priors):
             total = total + prior.log_density(sets[:, j])
         out = np.full(sets.shape[0], -np.inf)
@@ -159,13 +178,18 @@ def sample_posterior(
     # Start inside the bulk of each prior, so no walker starts where the model is absurd.
     start = rng.uniform(0.1, 0.9, size=(walkers, dims))
     p0 = np.column_stack([p.quantile(start[:, j]) for j, p in enumerate(every)])
+    p0[:, _logged(every)] = np.log(p0[:, _logged(every)])
+    # Differential-evolution moves follow the strong correlations between the size at day 0,
+    # the spread and the severity better than the stretch move (emcee's documentation
+    # suggests this mixture; ter Braak & Vrugt 2008, Stat. Comput. 18:435).
+    moves = [(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)]
     sampler = emcee.EnsembleSampler(walkers, dims, log_posterior(simulate, data, every),
-                                    vectorize=True)
+                                    moves=moves, vectorize=True)
     sampler.random_state = np.random.RandomState(seed).get_state()
     sampler.run_mcmc(p0, steps, progress=False)
     return Posterior(
         priors=every,
-        chain=np.asarray(sampler.get_chain(), dtype=np.float64),
+        chain=to_inputs(np.asarray(sampler.get_chain(), dtype=np.float64), every),
         log_prob=np.asarray(sampler.get_log_prob(), dtype=np.float64),
         acceptance=np.asarray(sampler.acceptance_fraction, dtype=np.float64),
         burn=int(burn),

@@ -16,11 +16,38 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from prepkit.plan.details import Details
+from prepkit.plan.fit import FitSettings
+from prepkit.plan.ranges import LEVELS, Level, Range3
 from prepkit.plan.records import Observation, Source
 from prepkit.plan.resources import Capacity, Workforce
 
-Level = Literal["low", "central", "high"]
-LEVELS: tuple[Level, ...] = ("low", "central", "high")
+__all__ = [
+    "LEVELS",
+    "SETTINGS",
+    "AgeBand",
+    "Capacity",
+    "Contacts",
+    "Details",
+    "Disease",
+    "End",
+    "EndKind",
+    "FitSettings",
+    "Intervention",
+    "InterventionKind",
+    "Isolation",
+    "Level",
+    "Observation",
+    "Plan",
+    "Range3",
+    "Scenario",
+    "Setting",
+    "Severity",
+    "Source",
+    "Start",
+    "StartKind",
+    "Vaccination",
+    "Workforce",
+]
 
 Setting = Literal["home", "school", "work", "community"]
 SETTINGS: tuple[Setting, ...] = ("home", "school", "work", "community")
@@ -28,32 +55,6 @@ SETTINGS: tuple[Setting, ...] = ("home", "school", "work", "community")
 InterventionKind = Literal["contacts", "vaccination", "isolation"]
 StartKind = Literal["date", "ward_occupancy", "icu_occupancy", "admissions"]
 EndKind = Literal["horizon", "date", "duration", "release"]
-
-
-@dataclass(frozen=True, kw_only=True)
-class Range3:
-    """A quantity given as Low / Central / High, in the unit of its field.
-
-    When the workbook leaves Low or High blank they equal Central.
-    """
-
-    low: float
-    central: float
-    high: float
-
-    @classmethod
-    def point(cls, value: float) -> Range3:
-        """A quantity with no stated uncertainty."""
-        return cls(low=value, central=value, high=value)
-
-    def at(self, level: Level) -> float:
-        """Value at a named level."""
-        return {"low": self.low, "central": self.central, "high": self.high}[level]
-
-    @property
-    def is_point(self) -> bool:
-        """True when Low = Central = High."""
-        return self.low == self.central == self.high
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -353,6 +354,7 @@ class Plan:
     interventions: tuple[Intervention, ...]
     scenarios: tuple[Scenario, ...]
     observed: tuple[Observation, ...] = ()
+    fit: FitSettings = field(default_factory=FitSettings)
     source: Source = field(default_factory=Source)
 
     @property

@@ -99,6 +99,81 @@ def _unit_radius(base: NDArray[np.float64], weights: NDArray[np.float64]) -> NDA
 
 
 @one_blas_thread
+def unit_radius(
+    pc: NDArray[np.float64],
+    layout: StateLayout,
+    rates: ArrayLike,
+    symptomatic: ArrayLike,
+    admitted: ArrayLike,
+    latent_rate: ArrayLike,
+    infectious_rate: ArrayLike,
+    susceptible_share: ArrayLike | None = None,
+) -> NDArray[np.float64]:
+    """Spectral radius of the ``exp(-r t)``-discounted next-generation matrix at beta = 1.
+
+    ``rho(K_r(1))`` for each draw: with ``r = 0`` beta times it is the
+    reproduction number; a growth rate ``r`` is reached when beta times it is
+    1 (the module's equations).
+
+    Parameters
+    ----------
+    pc : ndarray
+        A parameter vector of the run (contacts, populations, susceptibility,
+        asymptomatic infectiousness, onset-to-admission delays).
+    layout : StateLayout
+        Stage counts.
+    rates : array, shape (draws,)
+        Growth rate at which to discount [1/day].
+    symptomatic, admitted : array, shape (draws, bands)
+        Symptomatic and admitted shares [fraction] (admitted cut to symptomatic).
+    latent_rate, infectious_rate : array, shape (draws,)
+        Latent and infectious stage rates [1/day].
+    susceptible_share : array, shape (bands,), optional
+        Share of each band still susceptible [fraction]; default 1 (everybody).
+
+    Returns
+    -------
+    ndarray, shape (draws,)
+        ``rho(K_r(1))`` [per unit of beta].
+
+    Raises
+    ------
+    ModelError
+        When a growth rate is below what any transmission can give.
+    """
+    nb = layout.bands
+    sc = scalar_offset(nb)
+    r = np.asarray(rates, dtype=np.float64)
+    pop = pc[P_POP * nb : (P_POP + 1) * nb]
+    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
+    if susceptible_share is not None:
+        sigma = sigma * np.asarray(susceptible_share, dtype=np.float64)
+    wait_rate = pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb]
+    mo = matrix_offset(nb)
+    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
+    base = (sigma * pop)[:, None] * contacts / pop[None, :]
+
+    p_sym = np.asarray(symptomatic, dtype=np.float64)
+    h = np.minimum(np.asarray(admitted, dtype=np.float64), p_sym)
+    lat = np.asarray(latent_rate, dtype=np.float64)
+    inf = np.asarray(infectious_rate, dtype=np.float64)
+    slowest = np.minimum(np.minimum(lat, inf), float(np.min(wait_rate)))
+    if np.any(r <= -slowest):
+        worst = int(np.argmin(r + slowest))
+        raise ModelError(
+            f"growth rate {float(r[worst]):.4g}/day is below what any transmission can "
+            f"give (-{float(slowest[worst]):.4g}/day)"
+        )
+    latent = (lat / (lat + r)) ** layout.latent_stages
+    at_home = discounted_residence(inf, layout.infectious_stages, r)
+    waiting = discounted_residence(wait_rate[None, :], layout.wait_stages, r[:, None])
+    weights = latent[:, None] * (
+        (pc[sc + S_RHO] * (1.0 - p_sym) + (p_sym - h)) * at_home[:, None] + h * waiting
+    )
+    return _unit_radius(base, weights)
+
+
+@one_blas_thread
 def beta_for_targets(
     pc: NDArray[np.float64],
     layout: StateLayout,
@@ -139,35 +214,9 @@ def beta_for_targets(
         When a doubling time is not positive, a growth rate is out of reach,
         or nobody can infect anybody.
     """
-    nb = layout.bands
-    sc = scalar_offset(nb)
     goal = np.asarray(target, dtype=np.float64)
-    rates = target_growth_rates(measure, goal)
-    pop = pc[P_POP * nb : (P_POP + 1) * nb]
-    sigma = pc[P_SUSCEPTIBILITY * nb : (P_SUSCEPTIBILITY + 1) * nb]
-    wait_rate = pc[P_WAIT_RATE * nb : (P_WAIT_RATE + 1) * nb]
-    mo = matrix_offset(nb)
-    contacts = pc[mo : mo + N_SETTINGS * nb * nb].reshape(N_SETTINGS, nb, nb).sum(axis=0)
-    base = (sigma * pop)[:, None] * contacts / pop[None, :]
-
-    p_sym = np.asarray(symptomatic, dtype=np.float64)
-    h = np.minimum(np.asarray(admitted, dtype=np.float64), p_sym)
-    lat = np.asarray(latent_rate, dtype=np.float64)
-    inf = np.asarray(infectious_rate, dtype=np.float64)
-    slowest = np.minimum(np.minimum(lat, inf), float(np.min(wait_rate)))
-    if np.any(rates <= -slowest):
-        worst = int(np.argmin(rates + slowest))
-        raise ModelError(
-            f"growth rate {float(rates[worst]):.4g}/day is below what any transmission can "
-            f"give (-{float(slowest[worst]):.4g}/day)"
-        )
-    latent = (lat / (lat + rates)) ** layout.latent_stages
-    at_home = discounted_residence(inf, layout.infectious_stages, rates)
-    waiting = discounted_residence(wait_rate[None, :], layout.wait_stages, rates[:, None])
-    weights = latent[:, None] * (
-        (pc[sc + S_RHO] * (1.0 - p_sym) + (p_sym - h)) * at_home[:, None] + h * waiting
-    )
-    unit = _unit_radius(base, weights)
+    unit = unit_radius(pc, layout, target_growth_rates(measure, goal), symptomatic, admitted,
+                       latent_rate, infectious_rate)
     with np.errstate(divide="ignore", over="ignore"):
         beta = (goal if measure == "r0" else np.ones_like(goal)) / unit
     if np.any(unit <= 0.0) or not np.all(transmission_is_finite(beta, pc, layout)):

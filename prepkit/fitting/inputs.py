@@ -1,0 +1,197 @@
+"""Which inputs the fit estimates, their priors from the plan, and parameter sets as model inputs.
+
+The fit estimates, from the observed admissions:
+
+* the transmissibility before the change date, in the plan's own measure
+  (R0, doubling time or growth rate), with the beta-PERT prior of its
+  Low/Central/High range;
+* the spread after the change date relative to before, when the Observed
+  sheet gives a change date (prior: its Low/Central/High range);
+* the infections at day 0, log-uniform between the Disease sheet's figure
+  divided and multiplied by the planner's factor;
+* a multiplier on every band's admitted share (how severe the disease is
+  locally), with the beta-PERT prior of the population-weighted admitted
+  share's range relative to its Central value.
+
+An input whose range is a single value is not estimated: it stays at that
+value. Every other input of a set takes its Central value.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import NDArray
+
+from prepkit.fitting.priors import Prior
+from prepkit.plan import Plan, Range3, Scenario
+from prepkit.simulation.draw_values import DrawValues
+from prepkit.simulation.inputs import resolve_inputs
+
+__all__ = ["CHANGE", "INITIAL", "SEVERITY", "TRANSMISSIBILITY", "FitInputs", "ParameterSets",
+           "fit_inputs"]
+
+TRANSMISSIBILITY = "transmissibility"
+CHANGE = "change_factor"
+INITIAL = "initial_infections"
+SEVERITY = "admitted_share_multiplier"
+
+_MEASURE_WORDS = {
+    "r0": ("Basic reproduction number R0 before the change", ""),
+    "doubling_time": ("Doubling time of infections before the change", "days"),
+    "growth_rate": ("Growth rate of infections before the change", "per day"),
+}
+
+
+@dataclass(frozen=True, kw_only=True)
+class ParameterSets:
+    """Parameter sets as model inputs.
+
+    Attributes
+    ----------
+    values : DrawValues
+        Inputs of every set (one row each).
+    initial_infections : ndarray, shape (sets,)
+        Infections at day 0 [persons].
+    change_factor : ndarray, shape (sets,)
+        Transmission after the change day relative to before [ratio].
+    """
+
+    values: DrawValues
+    initial_infections: NDArray[np.float64]
+    change_factor: NDArray[np.float64]
+
+
+@dataclass(frozen=True, kw_only=True, eq=False)
+class FitInputs:
+    """The estimated inputs of a plan and how a parameter set becomes model inputs.
+
+    Attributes
+    ----------
+    priors : tuple of Prior
+        Priors of the estimated inputs, in column order.
+    central : DrawValues
+        Every input at its Central value (one row).
+    initial_infections : float
+        The Disease sheet's infections at day 0 [persons].
+    change_day : int or None
+        Model day from which the change applies [days since day 0].
+    """
+
+    priors: tuple[Prior, ...]
+    central: DrawValues
+    initial_infections: float
+    change_day: int | None
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """Keys of the estimated inputs, in column order."""
+        return tuple(p.name for p in self.priors)
+
+    def sets(self, theta: NDArray[np.float64]) -> ParameterSets:
+        """Model inputs of parameter sets.
+
+        Parameters
+        ----------
+        theta : ndarray, shape (sets, estimated inputs)
+            Values of the estimated inputs, columns in the order of :attr:`priors`.
+
+        Returns
+        -------
+        ParameterSets
+            One row per set.
+        """
+        x = np.atleast_2d(np.asarray(theta, dtype=np.float64))
+        n = x.shape[0]
+        column = {name: x[:, j] for j, name in enumerate(self.names)}
+        c = self.central
+
+        def repeat(a: NDArray[np.float64]) -> NDArray[np.float64]:
+            return np.repeat(a, n, axis=0)
+
+        multiplier = column.get(SEVERITY, np.ones(n))
+        values = DrawValues(
+            transmissibility_value=column.get(TRANSMISSIBILITY,
+                                              repeat(c.transmissibility_value)),
+            latent_period_days=repeat(c.latent_period_days),
+            infectious_period_days=repeat(c.infectious_period_days),
+            symptomatic_share=repeat(c.symptomatic_share),
+            admitted_share=np.minimum(repeat(c.admitted_share) * multiplier[:, None], 1.0),
+            icu_share=repeat(c.icu_share),
+            ward_stay_days=repeat(c.ward_stay_days),
+            icu_stay_days=repeat(c.icu_stay_days),
+            efficacy_infection=repeat(c.efficacy_infection),
+            efficacy_severe=repeat(c.efficacy_severe),
+            compliance={k: repeat(v) for k, v in c.compliance.items()},
+        )
+        return ParameterSets(
+            values=values,
+            initial_infections=column.get(INITIAL, np.full(n, self.initial_infections)),
+            change_factor=column.get(CHANGE, np.ones(n)),
+        )
+
+
+def _transmissibility(plan: Plan) -> tuple[str, Range3]:
+    disease = plan.disease
+    given = {"r0": disease.r0, "doubling_time": disease.doubling_time_days,
+             "growth_rate": disease.growth_rate_per_day}
+    measure: str = disease.transmissibility_measure
+    chosen = given.get(measure)
+    if chosen is None:
+        measure, chosen = next((k, v) for k, v in given.items() if v is not None)
+    return measure, chosen
+
+
+def _weighted_admitted(plan: Plan) -> Range3:
+    """Population-weighted admitted share per infection at each level [fraction]."""
+    people = np.array([b.people for b in plan.bands], dtype=np.float64)
+    weights = people / people.sum()
+    shares = plan.severity.admitted_share
+    return Range3(**{level: float(weights @ np.array([s.at(level) for s in shares]))
+                     for level in ("low", "central", "high")})
+
+
+def fit_inputs(plan: Plan) -> FitInputs:
+    """The inputs the fit estimates for a plan, with their priors.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan (its Observed sheet settings in ``plan.fit``).
+
+    Returns
+    -------
+    FitInputs
+        Priors, Central values and the change day.
+    """
+    priors: list[Prior] = []
+    measure, spread = _transmissibility(plan)
+    if not spread.is_point:
+        label, unit = _MEASURE_WORDS[measure]
+        priors.append(Prior(name=TRANSMISSIBILITY, label=label, unit=unit, kind="pert",
+                            low=spread.low, mode=spread.central, high=spread.high))
+    settings = plan.fit
+    change_day = None
+    if settings.change_date is not None:
+        change_day = plan.day_of(settings.change_date)
+        factor = settings.change_factor
+        if not factor.is_point:
+            priors.append(Prior(name=CHANGE, label="Spread after the change, relative to before",
+                                unit="ratio", kind="pert", low=factor.low,
+                                mode=factor.central, high=factor.high))
+    seeds = float(plan.disease.initial_infections)
+    if seeds > 0.0:
+        f = settings.initial_infections_factor
+        priors.append(Prior(name=INITIAL, label="Infections at day 0", unit="persons",
+                            kind="log_uniform", low=seeds / f, mode=seeds, high=seeds * f))
+    admitted = _weighted_admitted(plan)
+    if not admitted.is_point and admitted.central > 0.0:
+        priors.append(Prior(name=SEVERITY, label="Admitted share, relative to Central",
+                            unit="ratio", kind="pert", low=admitted.low / admitted.central,
+                            mode=1.0, high=admitted.high / admitted.central))
+    course = Scenario(name="Observed course", transmissibility_level="central",
+                      severity_level="central", interventions=())
+    central = DrawValues.of_inputs(resolve_inputs(plan, course))
+    return FitInputs(priors=tuple(priors), central=central, initial_infections=seeds,
+                     change_day=change_day)
