@@ -6,8 +6,9 @@ measure, every range open). In one process it measures:
 
 (a) the per-draw scipy ``solve_ivp`` RK45 loop of ``benchmarks/ensemble.py``,
     timed on a few draws and extrapolated per draw-day;
-(b) the kernel of main before issue 11 (a frozen copy in
-    ``benchmarks/kernel_before/``, compiled from there) and the current
+(b) the kernel of main before issue 11 (revision ``baseline_kernel.BASELINE``,
+    extracted from git and compiled on its own by ``benchmarks/baseline_kernel.py``)
+    and the current
     :func:`prepkit.simulation.kernels.run_draws`, on the same 10,000 draws'
     parameter arrays, alternately, best of :data:`REPEATS` passes each; CPU
     seconds (``time.process_time``, both threads) per draw-day, and the
@@ -44,7 +45,8 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
 import ensemble as bench  # noqa: E402
-from kernel_before.kernels import run_draws as run_draws_before  # noqa: E402
+from baseline_kernel import BASELINE  # noqa: E402
+from baseline_kernel import load as load_baseline_kernel  # noqa: E402
 
 from prepkit.metrics.absence import employed_weights  # noqa: E402
 from prepkit.scenarios.runs import compile_scenario  # noqa: E402
@@ -116,6 +118,8 @@ def main() -> None:
 
     inputs = kernel_inputs(plan, model, DRAWS)
     small = kernel_inputs(plan, model, 16)
+    run_draws_before = load_baseline_kernel(BASELINE)
+    print(f"kernel before: revision {BASELINE}, extracted by benchmarks/baseline_kernel.py")
     for kernel, now in ((run_draws_before, False), (run_draws, True)):
         _, seconds, _ = bench.timed(lambda k=kernel, w=now: run_kernel(k, w, plan, model, small))
         print(f"    warm-up ({'now' if now else 'before'}, includes cache load or compile): "
