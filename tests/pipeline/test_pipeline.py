@@ -566,7 +566,7 @@ def test_workbook_changed_during_the_run_fails_and_writes_nothing(
             handle.write(b"\0")
         return out
 
-    monkeypatch.setattr(pipeline, "render_pack", render_then_edit)
+    monkeypatch.setattr(pipeline_pack, "render_pack", render_then_edit)
     outdir = tmp_path / "pack"
     with pytest.raises(InputChangedError, match="changed while prepkit was running"):
         pipeline.run_workbook(workbook, pipeline.RunOptions(outdir=outdir, quiet=True),
