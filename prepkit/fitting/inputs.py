@@ -19,6 +19,7 @@ value. Every other input of a set takes its Central value.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -26,7 +27,7 @@ from numpy.typing import NDArray
 
 from prepkit.fitting.priors import Prior
 from prepkit.plan import Plan, Range3, Scenario
-from prepkit.simulation.draw_values import DrawValues
+from prepkit.simulation.draw_values import DrawValues, take_draws
 from prepkit.simulation.inputs import resolve_inputs
 
 __all__ = ["CHANGE", "INITIAL", "SEVERITY", "TRANSMISSIBILITY", "FitInputs", "ParameterSets",
@@ -105,25 +106,12 @@ class FitInputs:
         x = np.atleast_2d(np.asarray(theta, dtype=np.float64))
         n = x.shape[0]
         column = {name: x[:, j] for j, name in enumerate(self.names)}
-        c = self.central
-
-        def repeat(a: NDArray[np.float64]) -> NDArray[np.float64]:
-            return np.repeat(a, n, axis=0)
-
+        central = take_draws(self.central, np.zeros(n, dtype=np.int64))
         multiplier = column.get(SEVERITY, np.ones(n))
-        values = DrawValues(
-            transmissibility_value=column.get(TRANSMISSIBILITY,
-                                              repeat(c.transmissibility_value)),
-            latent_period_days=repeat(c.latent_period_days),
-            infectious_period_days=repeat(c.infectious_period_days),
-            symptomatic_share=repeat(c.symptomatic_share),
-            admitted_share=np.minimum(repeat(c.admitted_share) * multiplier[:, None], 1.0),
-            icu_share=repeat(c.icu_share),
-            ward_stay_days=repeat(c.ward_stay_days),
-            icu_stay_days=repeat(c.icu_stay_days),
-            efficacy_infection=repeat(c.efficacy_infection),
-            efficacy_severe=repeat(c.efficacy_severe),
-            compliance={k: repeat(v) for k, v in c.compliance.items()},
+        values = dataclasses.replace(
+            central,
+            transmissibility_value=column.get(TRANSMISSIBILITY, central.transmissibility_value),
+            admitted_share=np.minimum(central.admitted_share * multiplier[:, None], 1.0),
         )
         return ParameterSets(
             values=values,

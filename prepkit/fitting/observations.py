@@ -21,10 +21,7 @@ from prepkit.plan import Plan
 from prepkit.plan.fit import MIN_FIT_POINTS
 from prepkit.plan.records import DAYS_PER_WEEK
 
-__all__ = ["MIN_POINTS", "FitData", "fit_data", "too_few_points"]
-
-MIN_POINTS = MIN_FIT_POINTS
-"""Fewest rows with admissions worth fitting (:data:`prepkit.plan.fit.MIN_FIT_POINTS`)."""
+__all__ = ["FitData", "fit_data", "too_few_points"]
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -115,7 +112,7 @@ def too_few_points(data: FitData | None) -> str | None:
     """Why the observations cannot be fitted, in plain words; None when they can."""
     if data is None:
         return "No observed figures are given, so the scenarios are not fitted to local data."
-    needed = MIN_POINTS[data.period]
+    needed = MIN_FIT_POINTS[data.period]
     have = int(data.admissions.size)
     if have >= needed:
         return None

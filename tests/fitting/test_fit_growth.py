@@ -10,7 +10,7 @@ from numpy.testing import assert_allclose
 
 from prepkit.fitting.growth import doubling_times, growth_rates, reproduction_numbers
 from prepkit.scenarios.runs import compile_scenario
-from prepkit.simulation.draw_values import DrawValues
+from prepkit.simulation.draw_values import DrawValues, take_draws
 from prepkit.simulation.layout import S_BETA, scalar_offset
 from prepkit.simulation.transmissibility import growth_rate, reproduction_number
 
@@ -23,12 +23,7 @@ def test_growth_rate_and_r_match_the_eigenvalues_of_the_infected_subsystem() -> 
     model = compile_scenario(plan, plan.scenarios[0].name, False)
     beta = model.pc[scalar_offset(model.layout.bands) + S_BETA]
     multipliers = np.array([0.35, 0.6, 1.0, 1.4])
-    one = DrawValues.of_inputs(model.inputs)
-    values = DrawValues(**{
-        name: np.repeat(getattr(one, name), 4, axis=0) for name in (
-            "transmissibility_value", "latent_period_days", "infectious_period_days",
-            "symptomatic_share", "admitted_share", "icu_share", "ward_stay_days",
-            "icu_stay_days", "efficacy_infection", "efficacy_severe")})
+    values = take_draws(DrawValues.of_inputs(model.inputs), np.zeros(4, dtype=np.int64))
     got_r = growth_rates(model.pc, model.layout, values, np.full(4, beta), multipliers)
     got_R = reproduction_numbers(model.pc, model.layout, values, np.full(4, beta), multipliers)
     for m, r, big_r in zip(multipliers, got_r, got_R, strict=True):
