@@ -98,7 +98,9 @@ def effective_draws(chain: NDArray[np.float64]) -> NDArray[np.float64]:
         autocorrelation time of the walkers' mean (emcee's estimator).
     """
     x = np.asarray(chain, dtype=np.float64)
-    tau = emcee.autocorr.integrated_time(x, quiet=True)
+    # tol=0: emcee's own length rule (steps above 50 tau) would only log a warning to the
+    # terminal; the fit's rule is the effective draws' floor, checked by fit_checks
+    tau = emcee.autocorr.integrated_time(x, tol=0)
     return np.asarray(x.shape[0] * x.shape[1] / np.maximum(tau, 1.0), dtype=np.float64)
 
 
@@ -180,6 +182,10 @@ class FitChecks:
         The posterior-predictive check.
     problems : tuple of str
         What is wrong, in words for the pack; empty when the fit can be used.
+    converged : bool
+        True when the sampler's checks passed (R-hat, effective draws,
+        acceptance): the posterior can be used, with a warning when only the
+        predictive check failed.
     """
 
     rhat: NDArray[np.float64]
@@ -187,6 +193,7 @@ class FitChecks:
     acceptance: float
     predictive: PredictiveCheck
     problems: tuple[str, ...]
+    converged: bool = True
 
     @property
     def trusted(self) -> bool:
@@ -233,6 +240,7 @@ def fit_checks(
     if not low <= mean_acceptance <= high:
         problems.append(f"the sampler accepted {mean_acceptance:.0%} of its moves (a trusted "
                         f"fit accepts {low:.0%} to {high:.0%})")
+    converged = not problems
     if predictive.coverage < MIN_COVERAGE:
         problems.append(f"only {predictive.coverage:.0%} of the observed figures lie inside "
                         "the fitted model's 90% range")
@@ -242,4 +250,4 @@ def fit_checks(
                         + " than chance allows (posterior-predictive p-value "
                         f"{predictive.p_value:.3f})")
     return FitChecks(rhat=rhat, effective=effective, acceptance=mean_acceptance,
-                     predictive=predictive, problems=tuple(problems))
+                     predictive=predictive, problems=tuple(problems), converged=converged)

@@ -12,6 +12,9 @@ from a fit that failed its checks without the problems beside it.
 
 from __future__ import annotations
 
+import dataclasses
+import hashlib
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -30,6 +33,7 @@ from prepkit.fitting.sampler import (
 )
 from prepkit.fitting.simulator import course_simulator
 from prepkit.plan import Plan
+from prepkit.plan.records import Source
 
 __all__ = ["PREDICTIVE_DRAWS", "Fitted", "NotFitted", "fit_plan"]
 
@@ -88,6 +92,7 @@ def fit_plan(
     steps: int = DEFAULT_STEPS,
     burn: int = DEFAULT_BURN,
     seed: int | None = None,
+    before_sampling: Callable[[str], None] | None = None,
 ) -> Fitted | NotFitted:
     """Fit the plan's scenarios to its observed admissions.
 
@@ -99,12 +104,52 @@ def fit_plan(
         Sampler settings [count].
     seed : int, optional
         Seed; default the plan's seed (the same plan gives the same fit).
+    before_sampling : callable, optional
+        Told what is fitted just before the sampler starts.
 
     Returns
     -------
     Fitted or NotFitted
         The fit, or why there is none.
     """
+    key = _fit_key(plan, walkers, steps, burn, seed)
+    if key in _KNOWN:
+        return _KNOWN[key]
+    got = _fit_plan(plan, walkers=walkers, steps=steps, burn=burn, seed=seed,
+                    before_sampling=before_sampling)
+    _KNOWN[key] = got
+    while len(_KNOWN) > KNOWN_FITS:
+        del _KNOWN[next(iter(_KNOWN))]
+    return got
+
+
+KNOWN_FITS = 4
+"""Fits kept in memory: the same plan fitted again in one process (``prepkit watch`` rerunning
+after an edit elsewhere in the workbook, the tests) takes the fit already made [count]."""
+
+_KNOWN: dict[str, Fitted | NotFitted] = {}
+
+
+def _fit_key(plan: Plan, *settings: object) -> str:
+    """Digest of everything a fit reads: the plan as the fit sees it and the sampler's settings.
+
+    The plan's source record (file name and hash) is left out: a copy of a workbook fits the
+    same; every number, date and name is in the plan's text form.
+    """
+    seen = dataclasses.replace(plan, source=Source())
+    return hashlib.sha256(repr((seen, settings)).encode("utf-8")).hexdigest()
+
+
+def _fit_plan(
+    plan: Plan,
+    *,
+    walkers: int,
+    steps: int,
+    burn: int,
+    seed: int | None,
+    before_sampling: Callable[[str], None] | None,
+) -> Fitted | NotFitted:
+    """:func:`fit_plan` without the memory of known fits."""
     if plan.fit.method != "fit":
         return NotFitted(reason="The planner chose to draw the observed figures only.")
     data = fit_data(plan)
@@ -114,6 +159,9 @@ def fit_plan(
     inputs = fit_inputs(plan)
     simulate = course_simulator(plan, inputs, data.days_needed)
     use_seed = plan.details.seed if seed is None else seed
+    if before_sampling is not None:
+        count = f"{data.admissions.size} {'weeks' if data.period == 'weekly' else 'days'}"
+        before_sampling(f"Fitting the scenarios to {count} of observed admissions")
     posterior = sample_posterior(simulate, data, inputs.priors, walkers=walkers, steps=steps,
                                  burn=burn, seed=use_seed)
     kept = posterior.samples()

@@ -19,19 +19,17 @@ value. Every other input of a set takes its Central value.
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.fitting.priors import Prior
-from prepkit.plan import Plan, Range3, Scenario
-from prepkit.simulation.draw_values import DrawValues, take_draws
+from prepkit.plan import FittedValues, Plan, Range3, Scenario
+from prepkit.simulation.draw_values import DrawValues, take_draws, with_fitted
 from prepkit.simulation.inputs import resolve_inputs
 
-__all__ = ["CHANGE", "INITIAL", "SEVERITY", "TRANSMISSIBILITY", "FitInputs", "ParameterSets",
-           "fit_inputs"]
+__all__ = ["CHANGE", "INITIAL", "SEVERITY", "TRANSMISSIBILITY", "FitInputs", "fit_inputs"]
 
 TRANSMISSIBILITY = "transmissibility"
 CHANGE = "change_factor"
@@ -43,25 +41,6 @@ _MEASURE_WORDS = {
     "doubling_time": ("Doubling time of infections before the change", "days"),
     "growth_rate": ("Growth rate of infections before the change", "per day"),
 }
-
-
-@dataclass(frozen=True, kw_only=True)
-class ParameterSets:
-    """Parameter sets as model inputs.
-
-    Attributes
-    ----------
-    values : DrawValues
-        Inputs of every set (one row each).
-    initial_infections : ndarray, shape (sets,)
-        Infections at day 0 [persons].
-    change_factor : ndarray, shape (sets,)
-        Transmission after the change day relative to before [ratio].
-    """
-
-    values: DrawValues
-    initial_infections: NDArray[np.float64]
-    change_factor: NDArray[np.float64]
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -90,8 +69,8 @@ class FitInputs:
         """Keys of the estimated inputs, in column order."""
         return tuple(p.name for p in self.priors)
 
-    def sets(self, theta: NDArray[np.float64]) -> ParameterSets:
-        """Model inputs of parameter sets.
+    def fitted(self, theta: NDArray[np.float64]) -> FittedValues:
+        """Parameter sets as fitted values.
 
         Parameters
         ----------
@@ -100,24 +79,37 @@ class FitInputs:
 
         Returns
         -------
-        ParameterSets
-            One row per set.
+        FittedValues
+            One row per set; the admitted share of each band is its Central
+            value times the set's multiplier.
         """
         x = np.atleast_2d(np.asarray(theta, dtype=np.float64))
-        n = x.shape[0]
         column = {name: x[:, j] for j, name in enumerate(self.names)}
-        central = take_draws(self.central, np.zeros(n, dtype=np.int64))
-        multiplier = column.get(SEVERITY, np.ones(n))
-        values = dataclasses.replace(
-            central,
-            transmissibility_value=column.get(TRANSMISSIBILITY, central.transmissibility_value),
-            admitted_share=np.minimum(central.admitted_share * multiplier[:, None], 1.0),
+        multiplier = column.get(SEVERITY)
+        return FittedValues(
+            transmissibility=column.get(TRANSMISSIBILITY),
+            change_factor=column.get(CHANGE),
+            initial_infections=column.get(INITIAL),
+            admitted_share=(None if multiplier is None
+                            else self.central.admitted_share * multiplier[:, None]),
         )
-        return ParameterSets(
-            values=values,
-            initial_infections=column.get(INITIAL, np.full(n, self.initial_infections)),
-            change_factor=column.get(CHANGE, np.ones(n)),
-        )
+
+    def sets(self, theta: NDArray[np.float64]) -> DrawValues:
+        """Model inputs of parameter sets: the Central inputs with the fitted ones replaced.
+
+        Parameters
+        ----------
+        theta : ndarray, shape (sets, estimated inputs)
+            Values of the estimated inputs, columns in the order of :attr:`priors`.
+
+        Returns
+        -------
+        DrawValues
+            One row per set (:func:`prepkit.simulation.draw_values.with_fitted`).
+        """
+        x = np.atleast_2d(np.asarray(theta, dtype=np.float64))
+        central = take_draws(self.central, np.zeros(x.shape[0], dtype=np.int64))
+        return with_fitted(central, self.fitted(x))
 
 
 def _transmissibility(plan: Plan) -> tuple[str, Range3]:

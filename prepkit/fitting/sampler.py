@@ -41,10 +41,10 @@ DEFAULT_WALKERS = 32
 """Walkers of the ensemble sampler [count]: several times the number of fitted inputs, as the
 emcee authors advise (Foreman-Mackey et al. 2013, sec. 4)."""
 
-DEFAULT_STEPS = 1500
+DEFAULT_STEPS = 1000
 """Steps of every walker [count], burn-in included."""
 
-DEFAULT_BURN = 500
+DEFAULT_BURN = 300
 """Steps dropped from the start of every walker [count]."""
 
 PHI_FLOOR = 1e-6

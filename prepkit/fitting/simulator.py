@@ -23,15 +23,13 @@ from prepkit.errors import ModelError
 from prepkit.fitting.inputs import FitInputs
 from prepkit.fitting.sampler import Simulator
 from prepkit.plan import SETTINGS, End, Intervention, Plan, Range3, Scenario, Start
+from prepkit.plan.fit import CHANGE_MEASURE
 from prepkit.scenarios.runs import compile_scenario
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.draw_values import DrawValues, take_draws
-from prepkit.uncertainty.batch import run_batch
+from prepkit.uncertainty.batch import BatchSeries, run_batch
 
-__all__ = ["CHANGE_MEASURE", "COURSE", "course_plan", "course_simulator"]
-
-CHANGE_MEASURE = "Fitted change in spread"
-"""Name of the measure-table row that carries the fitted change."""
+__all__ = ["COURSE", "course_plan", "course_series", "course_simulator"]
 
 COURSE = "Observed course"
 """Name of the scenario the fit simulates."""
@@ -75,29 +73,27 @@ def course_simulator(plan: Plan, inputs: FitInputs, days: int) -> Simulator:
     model = compile_scenario(course, COURSE, True)
 
     def simulate(theta: NDArray[np.float64]) -> NDArray[np.float64]:
-        sets = inputs.sets(theta)
-        values = sets.values
-        if model.intervention_names:
-            values = dataclasses.replace(
-                values, compliance={CHANGE_MEASURE: 1.0 - sets.change_factor})
-        try:
-            runs = run_batch(model, course, values, initial_infections=sets.initial_infections)
-        except ModelError:
-            return _one_by_one(model, course, values, sets.initial_infections)
-        return np.asarray(runs.admissions_per_day, dtype=np.float64)
+        return course_series(model, course, inputs.sets(theta)).admissions_per_day
 
     return simulate
 
 
-def _one_by_one(model: CompiledModel, course: Plan, values: DrawValues,
-                seeds: NDArray[np.float64]) -> NDArray[np.float64]:
-    """Run sets one at a time after a batch failed: failing sets give NaN rows."""
-    out = np.full((values.size, course.details.horizon_days), np.nan)
+def course_series(model: CompiledModel, course: Plan, values: DrawValues) -> BatchSeries:
+    """Daily admissions and census of parameter sets; sets the model refuses give NaN rows."""
+    try:
+        return run_batch(model, course, values)
+    except ModelError:
+        pass
+    shape = (values.size, course.details.horizon_days)
+    out = BatchSeries(admissions_per_day=np.full(shape, np.nan),
+                      ward_census_persons=np.full(shape, np.nan),
+                      icu_census_persons=np.full(shape, np.nan))
     for i in range(values.size):
         try:
-            runs = run_batch(model, course, take_draws(values, np.array([i])),
-                             initial_infections=seeds[i:i + 1])
+            runs = run_batch(model, course, take_draws(values, np.array([i])))
         except ModelError:
             continue
-        out[i] = runs.admissions_per_day[0]
+        out.admissions_per_day[i] = runs.admissions_per_day[0]
+        out.ward_census_persons[i] = runs.ward_census_persons[0]
+        out.icu_census_persons[i] = runs.icu_census_persons[0]
     return out

@@ -19,6 +19,7 @@ import markupsafe
 
 from prepkit import __version__
 from prepkit.base.files import source_date
+from prepkit.fitting.project import FitOutcome
 from prepkit.pipeline.ensemble import ensemble_summary
 from prepkit.pipeline.jobs import run_jobs
 from prepkit.pipeline.manifest import MANIFEST_NAME
@@ -27,9 +28,11 @@ from prepkit.pipeline.progress import Say
 from prepkit.pipeline.summary import summary_bytes
 from prepkit.plan import Plan
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
+from prepkit.report.charts_fit import FIT_CHART, fit_chart_jobs
 from prepkit.report.render import html_to_pdf, render_html, templates_dir
 from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
-from prepkit.report.tables import columns_csv, daily_csv, uncertainty_daily_csv
+from prepkit.report.results_workbook_fit import fit_sheets
+from prepkit.report.tables import columns_csv, daily_csv, fit_daily_csv, uncertainty_daily_csv
 from prepkit.report.words.pack import FigureView, PackFigures, build_context
 from prepkit.report.words.uncertainty_text import ensemble_context
 from prepkit.report.words.views import ScenarioView, scenario_views
@@ -40,6 +43,7 @@ __all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "write_pack"]
 
 #: File of the daily uncertainty bands (only when the ensemble ran).
 UNCERTAINTY_CSV = "uncertainty-daily.csv"
+FIT_CSV = "fit-daily.csv"
 
 #: Default output folder of ``prepkit demo``.
 DEMO_OUTDIR = Path("prepkit-demo")
@@ -103,6 +107,8 @@ def _figures(
             label=f"Figure {number}.",
         )
 
+    # the fit's page comes first, right after the leader page
+    fit = view_of(by_name[FIT_CHART]) if FIT_CHART in by_name else None
     by_scenario = {}
     for view in views:
         chart = by_name.get(f"demand-scenario-{view.number}")
@@ -112,9 +118,10 @@ def _figures(
         view_of(chart)
         for chart in charts
         if not chart.name.startswith(("demand-scenario-", "uncertainty-"))
+        and chart.name != FIT_CHART
     )
     uncertainty = tuple(view_of(chart) for chart in charts if chart.name.startswith("uncertainty-"))
-    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty)
+    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty, fit=fit)
 
 
 def render_pack(
@@ -126,6 +133,7 @@ def render_pack(
     extra_files: Sequence[tuple[str, str]] = (),
     notes: Sequence[str] = (),
     say: Say | None = None,
+    fit: FitOutcome | None = None,
 ) -> Pack:
     """Make every file of the briefing pack in memory.
 
@@ -148,6 +156,10 @@ def render_pack(
         appendix.
     say : callable, optional
         Receives a message before each slow step.
+    fit : FitOutcome, optional
+        What came of fitting the plan to its observed figures
+        (:func:`prepkit.fitting.project.fit_stage`); ``plan`` is then the plan
+        the projections ran.
 
     Returns
     -------
@@ -162,8 +174,13 @@ def render_pack(
     jobs = chart_jobs(plan, views)
     if ensemble is not None and ensemble_words is not None:
         jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words.focus)
+    jobs += fit_chart_jobs(plan, fit)
     charts = tuple(run_jobs(jobs))
     listed = [*PACK_FILES, *extra_files]
+    fit_csv = fit_daily_csv(plan, fit)
+    if fit_csv is not None:
+        listed.insert(5, (FIT_CSV, "The observed figures beside the fitted model, day by day "
+                                   "(median, 50% and 90% ranges)."))
     bands_csv = uncertainty_daily_csv(ensemble)
     if bands_csv is not None:
         listed.insert(5, (UNCERTAINTY_CSV, "Daily uncertainty bands and chances of beds running "
@@ -173,7 +190,7 @@ def render_pack(
     # page gets the SVG copies, which stay sharp at any zoom.
     base = build_context(
         plan, results, figures=_figures(views, charts, "png"), version=__version__,
-        generated=when, files=listed, uncertainty=ensemble, notes=notes,
+        generated=when, files=listed, uncertainty=ensemble, notes=notes, fit=fit,
     )
     html_context = {
         **base,
@@ -181,9 +198,11 @@ def render_pack(
         "inline_css": markupsafe.Markup(_standalone_css()),
     }
     tell("Writing the briefing pack, the results workbook and the data files")
-    out = _documents(plan, results, ensemble, base, html_context, when)
+    out = _documents(plan, results, ensemble, base, html_context, when, fit)
     if bands_csv is not None:
         out[UNCERTAINTY_CSV] = bands_csv
+    if fit_csv is not None:
+        out[FIT_CSV] = fit_csv
     for chart in charts:
         out[f"charts/{chart.name}.svg"] = chart.svg
         out[f"charts/{chart.name}.png"] = chart.png
@@ -198,6 +217,7 @@ def _documents(
     base: Mapping[str, Any],
     html_context: Mapping[str, Any],
     when: dt.datetime,
+    fit: FitOutcome | None,
 ) -> dict[str, bytes]:
     """The pack's documents and data files: PDF, HTML, results workbook, CSV and JSON."""
     title = f"{plan.details.title} ({plan.details.jurisdiction})"
@@ -209,7 +229,7 @@ def _documents(
         ),
         lambda: results_workbook_bytes(
             plan, results, version=__version__, generated=when,
-            extra_sheets=uncertainty_sheets(ensemble),
+            extra_sheets=uncertainty_sheets(ensemble) + fit_sheets(plan, fit),
         ),
         lambda: render_html("pack.html.j2", html_context).encode("utf-8"),
         lambda: daily_csv(results),
@@ -222,7 +242,7 @@ def _documents(
         "daily-series.csv": daily,
         "daily-series-columns.csv": columns_csv(),
         "summary.json": summary_bytes(
-            plan, results, ensemble_summary(ensemble), when
+            plan, results, ensemble_summary(ensemble), when, fit=fit
         ),
     }
     return out

@@ -30,6 +30,7 @@ from pathlib import Path
 
 from prepkit.base.files import atomic_write_bytes, source_date
 from prepkit.errors import InputChangedError
+from prepkit.fitting.project import fit_stage
 from prepkit.pipeline.ensemble import ensemble_summary, run_ensemble
 from prepkit.pipeline.first_use import first_use_note
 from prepkit.pipeline.guard import check_draws_option, check_ensemble_memory
@@ -202,6 +203,9 @@ def run_to_pack(
     compiling = first_use_note()
     if compiling is not None:
         steps(compiling)
+    plan, fit = fit_stage(plan, say=steps)
+    if fit is not None and fit.reason:
+        steps(f"Note: {fit.reason}")
     each = "with and" if len(plan.scenarios) == 1 else "each with and"
     steps(f"Running {all_of(len(plan.scenarios), 'scenario')}, {each} without its measures")
     results = run_plan(plan)
@@ -209,7 +213,7 @@ def run_to_pack(
 
     if options.summary_only:
         summary = summary_bytes(plan, results, ensemble_summary(ensemble),
-                                 generated)
+                                 generated, fit=fit)
         _check_unchanged(workbook, digest)
         if options.summary_json is not None:
             _write_summary(options.summary_json, summary, workbook, None)
@@ -219,7 +223,7 @@ def run_to_pack(
     from prepkit.pipeline.pack import render_pack, write_pack
 
     pack = render_pack(plan, results, ensemble=ensemble, generated=generated, say=steps,
-                       extra_files=extra_files, notes=notes)
+                       extra_files=extra_files, notes=notes, fit=fit)
     steps(f"Saving the pack to {outdir}")
     written = write_pack(
         outdir, pack, before_commit=lambda: _check_unchanged(workbook, digest), extra=extra,

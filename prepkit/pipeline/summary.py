@@ -14,6 +14,8 @@ from typing import Any
 
 from prepkit import __version__
 from prepkit.base.json_values import jsonable
+from prepkit.fitting.project import FitOutcome
+from prepkit.fitting.summary import fit_summary
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults, ScenarioRun
 
@@ -93,8 +95,10 @@ def summary_bytes(
     results: PlanResults,
     ensemble_summary: dict[str, Any] | None,
     generated: dt.datetime,
+    *,
+    fit: FitOutcome | None = None,
 ) -> bytes:
-    """``summary.json``: every metric, the run's details and the ensemble's summary."""
+    """``summary.json``: every metric, the run's details, the ensemble's summary and the fit."""
     payload = summary_dict(plan, results)
     payload["run"] = {
         "prepkit_version": __version__,
@@ -106,4 +110,7 @@ def summary_bytes(
     }
     if ensemble_summary is not None:
         payload["uncertainty"] = ensemble_summary
+    fitted = fit_summary(fit)
+    if fitted is not None:
+        payload["fit"] = fitted
     return (json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()

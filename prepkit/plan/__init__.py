@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from prepkit.plan.details import Details
-from prepkit.plan.fit import FitSettings
+from prepkit.plan.fit import FitSettings, FittedValues
 from prepkit.plan.ranges import LEVELS, Level, Range3
 from prepkit.plan.records import Observation, Source
 from prepkit.plan.resources import Capacity, Workforce
@@ -32,6 +32,7 @@ __all__ = [
     "End",
     "EndKind",
     "FitSettings",
+    "FittedValues",
     "Intervention",
     "InterventionKind",
     "Isolation",
@@ -342,7 +343,14 @@ class Scenario:
 
 @dataclass(frozen=True, kw_only=True)
 class Plan:
-    """Everything prepkit needs to run the scenarios of one jurisdiction."""
+    """Everything prepkit needs to run the scenarios of one jurisdiction.
+
+    ``standing`` names measures in force in every variant, with and without the
+    scenarios' measures (the fitted change of spread); ``fitted`` holds the
+    posterior draws of a plan fitted to its observed figures, which the
+    ensemble's draws take (:func:`prepkit.simulation.draw_values.with_fitted`).
+    Both are set only by :func:`prepkit.fitting.project.fitted_plan`.
+    """
 
     details: Details
     bands: tuple[AgeBand, ...]
@@ -355,6 +363,8 @@ class Plan:
     scenarios: tuple[Scenario, ...]
     observed: tuple[Observation, ...] = ()
     fit: FitSettings = field(default_factory=FitSettings)
+    standing: tuple[str, ...] = ()
+    fitted: FittedValues | None = None
     source: Source = field(default_factory=Source)
 
     @property

@@ -18,7 +18,7 @@ from __future__ import annotations
 import base64
 import datetime as dt
 import textwrap
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
@@ -42,6 +42,7 @@ if TYPE_CHECKING:
     from matplotlib.axes import Axes
 
 __all__ = [
+    "legend_entries",
     "BUSY_SHARE",
     "PNG_DPI",
     "SHORT_FILL",
@@ -332,3 +333,26 @@ def tick_number(value: float, _pos: int) -> str:
     if abs(value) >= 1000:
         return f"{value:,.0f}"
     return f"{value:g}"
+
+
+def legend_entries(axes: Sequence[Axes]) -> tuple[list[Any], list[str]]:
+    """Handles and labels of every panel's legend entries, each label once, first seen first.
+
+    Parameters
+    ----------
+    axes : sequence of Axes
+        The panels, in the order their entries should come.
+
+    Returns
+    -------
+    tuple of (list, list of str)
+        Handles and labels for one legend of the whole figure.
+    """
+    handles: list[Any] = []
+    labels: list[str] = []
+    for ax in axes:
+        for handle, label in zip(*ax.get_legend_handles_labels(), strict=True):
+            if label not in labels:
+                handles.append(handle)
+                labels.append(label)
+    return handles, labels

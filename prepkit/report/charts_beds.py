@@ -20,6 +20,7 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
+    legend_entries,
     make_chart,
     plot_series,
     render_chart,
@@ -75,12 +76,7 @@ def demand_chart(
         ):
             _demand_panel(ax, kind, title, with_daily, without_daily, observed, window,
                           has_measures=has_measures)
-        handles, labels = axes[0].get_legend_handles_labels()
-        more_h, more_l = axes[1].get_legend_handles_labels()
-        for h, label in zip(more_h, more_l, strict=True):
-            if label not in labels:
-                handles.append(h)
-                labels.append(label)
+        handles, labels = legend_entries(axes)
         order = _legend_order(labels)
         fig.legend(
             [handles[i] for i in order], [labels[i] for i in order],

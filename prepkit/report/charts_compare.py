@@ -5,7 +5,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 from collections.abc import Sequence
-from typing import Any
 
 import matplotlib
 import numpy as np
@@ -19,6 +18,7 @@ from prepkit.report.charts_base import (
     beds_axis,
     chart_height,
     date_axis,
+    legend_entries,
     make_chart,
     plot_series,
     render_chart,
@@ -101,13 +101,7 @@ def admissions_chart(
         fit_limits(list(flat[: len(views)]), "y")
         for ax in axes[:, 0]:
             ax.set_ylabel("Admissions per day")
-        handles: list[Any] = []
-        labels: list[str] = []
-        for ax in flat[: len(views)]:
-            for h, label in zip(*ax.get_legend_handles_labels(), strict=True):
-                if label not in labels:
-                    handles.append(h)
-                    labels.append(label)
+        handles, labels = legend_entries(list(flat[: len(views)]))
         fig.legend(handles, labels, loc="outside lower center", ncols=3, fontsize=8.5)
 
     width, _ = figure_size(page_size)

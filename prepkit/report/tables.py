@@ -26,6 +26,9 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
+from prepkit.fitting.project import FitOutcome
+from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows, observed_by_date
+from prepkit.plan import Plan
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.results import UncertaintyResults
@@ -251,3 +254,28 @@ def uncertainty_daily_csv(uncertainty: UncertaintyResults | None) -> bytes | Non
                     ]
 
     return _csv_bytes(header, rows())
+
+
+def fit_daily_csv(plan: Plan, fit: FitOutcome | None) -> bytes | None:
+    """``fit-daily.csv``: the observed figures beside the fitted model, day by day.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan (day 0 and the observed figures).
+    fit : FitOutcome or None
+        What came of the fit.
+
+    Returns
+    -------
+    bytes or None
+        One row per fitted day, the columns of
+        :data:`prepkit.fitting.summary.FIT_DAILY_COLUMNS`; None without a fit report.
+    """
+    rows = fit_daily_rows(fit, plan.details.day0, observed_by_date(plan.observed)) if fit else []
+    if not rows:
+        return None
+    keys = [key for key, _ in FIT_DAILY_COLUMNS]
+    return _csv_bytes(keys, ([row["date"], *("" if row[k] is None else csv_number(row[k])
+                                            for k in keys[1:])]
+                             for row in rows))

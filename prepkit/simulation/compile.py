@@ -211,7 +211,8 @@ def compile_model(
     inputs : ResolvedInputs
         Numbers picked for the run.
     with_interventions : bool
-        False leaves every intervention out.
+        False leaves the scenario's interventions out (the plan's standing
+        measures stay).
     substeps : int, optional
         Fewest RK4 steps per day; default :data:`DEFAULT_SUBSTEPS` (days
         with faster rates take more, see
@@ -228,7 +229,7 @@ def compile_model(
     if np.any(pop <= 0.0):
         raise ModelError("every age band needs a positive population")
 
-    names = tuple(scenario.interventions) if with_interventions else ()
+    names = tuple(plan.standing) + (tuple(scenario.interventions) if with_interventions else ())
     items = [plan.intervention(name) for name in names]
     vaccines = [item.vaccination for item in items if item.vaccination is not None]
     check_durations(plan, inputs)

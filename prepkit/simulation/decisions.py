@@ -67,7 +67,7 @@ from prepkit.simulation.layout import (
     UINT as _U,
 )
 
-KERNEL_SOURCES = "5c7b41a9f5c473e1"
+KERNEL_SOURCES = "f47b452be61925d7"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

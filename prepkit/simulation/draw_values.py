@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
+from prepkit.plan.fit import CHANGE_MEASURE, FittedValues
 from prepkit.simulation.inputs import ResolvedInputs
 
 
@@ -37,6 +38,9 @@ class DrawValues:
     compliance : mapping of str to ndarray, shape (draws,)
         Per intervention name [fraction]; missing names use the central
         compliance.
+    initial_infections : ndarray, shape (draws,), or None
+        Infections at day 0 of each draw [persons]; None: the plan's
+        (fitted draws carry their own, :func:`with_fitted`).
     """
 
     transmissibility_value: NDArray[np.float64]
@@ -50,6 +54,7 @@ class DrawValues:
     efficacy_infection: NDArray[np.float64]
     efficacy_severe: NDArray[np.float64]
     compliance: Mapping[str, NDArray[np.float64]] = field(default_factory=dict)
+    initial_infections: NDArray[np.float64] | None = None
 
     @property
     def size(self) -> int:
@@ -143,4 +148,44 @@ def take_draws(values: DrawValues, rows: NDArray[np.int64]) -> DrawValues:
         efficacy_infection=values.efficacy_infection[rows],
         efficacy_severe=values.efficacy_severe[rows],
         compliance={k: v[rows] for k, v in values.compliance.items()},
+        initial_infections=(None if values.initial_infections is None
+                            else values.initial_infections[rows]),
+    )
+
+
+def with_fitted(values: DrawValues, fitted: FittedValues) -> DrawValues:
+    """Draws whose fitted inputs take the fitted values: the one rule of fit and projection.
+
+    Row ``i`` of the draws takes row ``i mod rows`` of ``fitted`` (see
+    :meth:`prepkit.plan.fit.FittedValues.cycled`). The transmissibility, the admitted
+    shares and the infections at day 0 are replaced; the change of spread ``m`` becomes
+    the compliance ``1 - m`` of the row :data:`prepkit.plan.fit.CHANGE_MEASURE`. Every
+    other input keeps its drawn value. A fitted admitted share above the drawn
+    symptomatic share is cut to it when the parameters are built, as in every run.
+
+    Parameters
+    ----------
+    values : DrawValues
+        The draws.
+    fitted : FittedValues
+        The fitted values.
+
+    Returns
+    -------
+    DrawValues
+        The same number of draws.
+    """
+    rows = fitted.cycled(values.size)
+    compliance = dict(values.compliance)
+    if rows.change_factor is not None:
+        compliance[CHANGE_MEASURE] = 1.0 - rows.change_factor
+    return replace(
+        values,
+        transmissibility_value=(values.transmissibility_value if rows.transmissibility is None
+                                else rows.transmissibility),
+        admitted_share=(values.admitted_share if rows.admitted_share is None
+                        else rows.admitted_share),
+        initial_infections=(values.initial_infections if rows.initial_infections is None
+                            else rows.initial_infections),
+        compliance=compliance,
     )

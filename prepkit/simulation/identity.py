@@ -119,6 +119,9 @@ def draws_key(model: CompiledModel, plan: Plan, values: DrawValues, *settings: H
     if any(item.vaccination is not None for item in items):
         _add(digest, np.asarray(values.efficacy_infection, dtype=np.float64))
         _add(digest, np.asarray(values.efficacy_severe, dtype=np.float64))
+    _add(digest, ("initial infections", values.initial_infections is not None))
+    if values.initial_infections is not None:
+        _add(digest, np.asarray(values.initial_infections, dtype=np.float64))
     for name in model.intervention_names:
         _add(digest, (name, name in values.compliance))
         if name in values.compliance:

@@ -66,7 +66,7 @@ from prepkit.simulation.run_checks import (
 )
 from prepkit.simulation.step_rule import advance_day, day_rates
 
-KERNEL_SOURCES = "5c7b41a9f5c473e1"
+KERNEL_SOURCES = "f47b452be61925d7"
 """Digest of the sources compiled together (see :data:`prepkit.simulation.kernels.COMPILED`);
 tests/simulation/test_kernel_sources.py gives the value after an edit."""
 

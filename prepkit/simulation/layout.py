@@ -44,6 +44,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import cached_property
 from types import MappingProxyType
 
 import numpy as np
@@ -251,9 +252,9 @@ class StateLayout:
             BLK_C: self.icu_stages,
         }.get(block, 1)
 
-    @property
+    @cached_property
     def offsets(self) -> tuple[int, ...]:
-        """Offset of every block, then the total size."""
+        """Offset of every block, then the total size (computed once per layout)."""
         out = [0]
         for block in range(N_BLOCKS):
             out.append(out[-1] + self.stages(block) * self.bands)

@@ -343,12 +343,38 @@ def initial_state(
     ndarray
         State vector at day 0.
     """
-    total = float(pop.sum())
-    y0 = np.zeros(layout.size)
-    seeded = disease.initial_infections * pop / total
+    seeds = np.array([float(disease.initial_infections)])
+    return initial_states(layout, disease, pop, seeds)[0]
+
+
+def initial_states(
+    layout: StateLayout, disease: Disease, pop: NDArray[np.float64],
+    initial_infections: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """States at day 0 of several runs that differ only in their infections at day 0.
+
+    Parameters
+    ----------
+    layout : StateLayout
+        Stage counts.
+    disease : Disease
+        Prior immunity (its ``initial_infections`` is not read).
+    pop : ndarray, shape (bands,)
+        Band populations [persons].
+    initial_infections : ndarray, shape (runs,)
+        Infections at day 0 of each run [persons], spread across bands by population.
+
+    Returns
+    -------
+    ndarray, shape (runs, size)
+        State vectors at day 0.
+    """
+    seeds = np.asarray(initial_infections, dtype=np.float64).reshape(-1)
+    y0 = np.zeros((seeds.size, layout.size))
+    seeded = seeds[:, None] * pop[None, :] / float(pop.sum())
     immune = np.asarray(disease.prior_immunity, dtype=np.float64) * pop
-    y0[layout.stage(BLK_S)] = np.maximum(pop - immune - seeded, 0.0)
-    y0[layout.stage(BLK_R)] = immune
-    y0[layout.stage(BLK_E)] = seeded
-    y0[layout.stage(BLK_CUM_INF)] = seeded
+    y0[:, layout.stage(BLK_S)] = np.maximum(pop - immune - seeded, 0.0)
+    y0[:, layout.stage(BLK_R)] = immune
+    y0[:, layout.stage(BLK_E)] = seeded
+    y0[:, layout.stage(BLK_CUM_INF)] = seeded
     return y0

@@ -43,5 +43,19 @@ def in_threads(
     workers = min(len(parts), max(1, numba.get_num_threads()))
     if workers <= 1:
         return [func(part) for part in parts]
-    with ThreadPoolExecutor(max_workers=workers) as pool:
-        return list(pool.map(func, parts))
+    return list(_pool(workers).map(func, parts))
+
+
+_POOLS: dict[int, ThreadPoolExecutor] = {}
+
+
+def _pool(workers: int) -> ThreadPoolExecutor:
+    """One lasting pool per thread count.
+
+    Starting threads costs milliseconds, which a fit calling the model thousands of times
+    would pay on every call.
+    """
+    if workers not in _POOLS:
+        _POOLS[workers] = ThreadPoolExecutor(max_workers=workers,
+                                             thread_name_prefix="prepkit-numpy")
+    return _POOLS[workers]

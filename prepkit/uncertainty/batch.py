@@ -10,10 +10,9 @@ and draws (:func:`prepkit.simulation.parameters.draw_parameters` and
 :func:`~prepkit.simulation.parameters.draw_transmission`, through
 :func:`prepkit.uncertainty.parameters.build_parameters`). A set is a row of
 :class:`~prepkit.simulation.draw_values.DrawValues` (transmissibility value,
-periods, shares, stays, efficacies, compliance) plus two numbers the draws
-do not carry: the initial infections (day-0 infections spread by
-population, :func:`prepkit.simulation.parameters.initial_state`) and a
-multiplier on every band's admitted share.
+periods, shares, stays, efficacies, compliance, infections at day 0, spread
+across bands by population, :func:`prepkit.simulation.parameters.initial_states`),
+optionally with a multiplier on every band's admitted share.
 """
 
 from __future__ import annotations
@@ -26,7 +25,6 @@ from numpy.typing import NDArray
 from prepkit.plan import Plan
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.draw_values import DrawValues
-from prepkit.simulation.parameters import initial_state
 from prepkit.uncertainty.ensemble import simulate_draws
 from prepkit.uncertainty.parameters import ENSEMBLE_MIN_SUBSTEPS
 
@@ -73,8 +71,8 @@ def run_batch(
         Infections at day 0 of each set [persons]; default the plan's.
     admitted_multiplier : ndarray, shape (sets,), optional
         Factor on every band's admitted share of each set [dimensionless]
-        (the share admitted when protected follows from it); default 1. The
-        product must stay within the symptomatic share.
+        (the share admitted when protected follows from it); default 1. A
+        product above the symptomatic share is cut to it, as in every run.
     min_substeps : int or None
         Fewest RK4 steps a day (see :func:`~prepkit.uncertainty.ensemble.simulate_draws`;
         None is the single run's step rule).
@@ -89,28 +87,19 @@ def run_batch(
     Raises
     ------
     ValueError
-        When an array's length is not the number of sets, or a multiplied
-        admitted share exceeds the symptomatic share.
+        When an array's length is not the number of sets.
     ModelError
         When a set fails a check of the engine (named with its inputs).
     """
     n = values.size
     if admitted_multiplier is not None:
         factor = _per_set(admitted_multiplier, n, "admitted_multiplier")
-        shares = values.admitted_share * factor[:, None]
-        if np.any(shares > values.symptomatic_share):
-            raise ValueError("admitted share times its multiplier exceeds the symptomatic share")
-        values = replace(values, admitted_share=shares)
-    initial = None
+        values = replace(values, admitted_share=values.admitted_share * factor[:, None])
     if initial_infections is not None:
         seeds = _per_set(initial_infections, n, "initial_infections")
-        pop = np.array([band.people for band in plan.bands], dtype=np.float64)
-        initial = np.empty((n, model.y0.size))
-        for row, seed in enumerate(seeds):
-            disease = replace(plan.disease, initial_infections=float(seed))
-            initial[row] = initial_state(model.layout, disease, pop)
+        values = replace(values, initial_infections=seeds)
     draws = simulate_draws(model, plan, values, min_substeps=min_substeps, blocks=blocks,
-                           dtype=np.float64, what="parameter set", initial=initial)
+                           dtype=np.float64, what="parameter set")
     return BatchSeries(
         admissions_per_day=draws.get("admissions_per_day"),
         ward_census_persons=draws.get("ward_census_persons"),

@@ -34,7 +34,7 @@ from prepkit.simulation.layout import (
     S_GROWTH_STEP,
     scalar_offset,
 )
-from prepkit.simulation.parameters import draw_betas
+from prepkit.simulation.parameters import draw_betas, initial_states
 from prepkit.simulation.run_checks import REPORT_SIZE
 from prepkit.simulation.threads import use_all_cores
 from prepkit.uncertainty.draws import (
@@ -123,9 +123,10 @@ def simulate_draws(
     what : str
         What a draw is called in an error (e.g. ``"uncertainty draw"``).
     initial : ndarray, shape (draws, size), optional
-        State at day 0 of each draw [persons]; default ``model.y0`` for all
-        (:func:`prepkit.uncertainty.batch.run_batch` varies the initial
-        infections).
+        State at day 0 of each draw [persons]; default: from the draws'
+        infections at day 0 when they carry them
+        (:attr:`~prepkit.simulation.draw_values.DrawValues.initial_infections`),
+        else ``model.y0`` for all.
 
     Returns
     -------
@@ -158,6 +159,9 @@ def simulate_draws(
     floor, limit, force_limit = step_rule(min_substeps)
     growth_limit = float(model.pc[scalar_offset(model.layout.bands) + S_GROWTH_STEP])
     limits = (limit, force_limit, most_substeps(floor, min(limit, force_limit, growth_limit)))
+    if initial is None and values.initial_infections is not None:
+        pop = np.array([band.people for band in plan.bands], dtype=np.float64)
+        initial = initial_states(model.layout, plan.disease, pop, values.initial_infections)
     use_all_cores()
     edges = np.linspace(0, n, max(1, min(int(blocks), max(n, 1))) + 1).astype(int)
     for start, stop in zip(edges[:-1], edges[1:], strict=True):

@@ -67,7 +67,7 @@ from prepkit.base.blas import one_blas_thread
 from prepkit.plan import Plan, Scenario
 from prepkit.scenarios.runs import ScenarioRun, compile_scenario
 from prepkit.simulation.compile import CompiledModel
-from prepkit.simulation.draw_values import DrawValues
+from prepkit.simulation.draw_values import DrawValues, with_fitted
 from prepkit.simulation.identity import Shared, draws_key
 from prepkit.simulation.inputs import validate_plan
 from prepkit.uncertainty.draws import values_from
@@ -122,11 +122,13 @@ def draw_values(
     Returns
     -------
     DrawValues
-        One row per draw.
+        One row per draw; the fitted inputs of a fitted plan take its
+        posterior draws (:func:`prepkit.simulation.draw_values.with_fitted`).
     """
     fields = scenario_fields(plan, scenario)
     store = cache or ValueCache(quantiles)
-    return values_from({item.key: store.values(item) for item in fields}, quantiles.shape[0])
+    values = values_from({item.key: store.values(item) for item in fields}, quantiles.shape[0])
+    return values if plan.fitted is None else with_fitted(values, plan.fitted)
 
 
 def _draws_key(model: CompiledModel, plan: Plan, values: DrawValues,

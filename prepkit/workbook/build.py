@@ -50,6 +50,7 @@ from prepkit.plan import (
     Vaccination,
 )
 from prepkit.plan.details import Details
+from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import InputRecord, Observation
 from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook import schema, validate
@@ -224,9 +225,10 @@ def build_plan(*, items: Mapping[Key, Got], band_rows: Sequence[TableRow],
     names = {normalise_key(m.name): m.name for m in interventions}
     scenarios = tuple(build_scenario(row, names, rec) for row in tables["scenarios"])
     observed = tuple(build_row(Observation, "observed", row, rec) for row in tables["observed"])
+    fit = build_section(FitSettings, "fit", items, (), rec)
     return Plan(details=details, bands=bands, contacts=contacts, disease=disease,
                 severity=severity, capacity=capacity, workforce=workforce,
-                interventions=interventions, scenarios=scenarios, observed=observed)
+                interventions=interventions, scenarios=scenarios, observed=observed, fit=fit)
 
 
 # ---- Special cases ---------------------------------------------------------------------------

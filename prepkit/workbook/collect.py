@@ -81,7 +81,9 @@ class Collector:
 
     def absent(self, f: Field, level: Level, sheet: str, label: str, why: str) -> Got:
         """An input whose sheet or block is missing (already reported)."""
-        value = default_of(f) if f.default is not None and level == "central" else None
+        # a blank Low or High takes the Central value, so an absent uncertain input is its
+        # default at every level
+        value = default_of(f) if f.default is not None else None
         return Got(field=f, level=level, sheet=sheet, cell="", label=label, value=value,
                    found=why, blank=True, defaulted=value is not None)
 

@@ -9,6 +9,7 @@ from prepkit.plan import SETTINGS
 from prepkit.workbook.field_types import Field, Sampled
 from prepkit.workbook.sheets import (
     END_CHOICES,
+    FIT_CHOICES,
     KIND_CHOICES,
     LEVEL_CHOICES,
     MEASURES,
@@ -149,6 +150,29 @@ MEASURE_FIELDS: tuple[Field, ...] = (
           choices=PERIOD_CHOICES, default="Daily",
           help="Daily: each row is one day. Weekly totals: admissions and deaths are the 7 days "
                "ending on the row's date, one row a week; patients in beds are on the date."),
+    Field(name="fit.method", target="fit.method",
+          sheet=OBSERVED, label="Use the figures to", unit="", type="choice",
+          choices=FIT_CHOICES, default="Fit the scenarios",
+          help="Fit the scenarios: estimate how fast the disease spreads here, how many were "
+               "infected at day 0 and how severe it is, from the new admissions, and project "
+               "every scenario from that (needs at least 10 daily or 4 weekly rows with "
+               "admissions). Only draw them: show the figures beside the scenarios."),
+    Field(name="fit.change_date", target="fit.change_date",
+          sheet=OBSERVED, label="Spread changed on", unit="date", type="date",
+          help="The day spread changed while the figures were kept (measures began, people "
+               "changed their behaviour), if it did; the fit estimates the change. Measures "
+               "already in force belong here, not on the Scenarios sheet. Blank = no change."),
+    Field(name="fit.change_factor", target="fit.change_factor",
+          sheet=OBSERVED, label="Spread after that day, relative to before", unit="ratio",
+          type="number", minimum=0.05, maximum=3.0, default=1.0, uncertain=True,
+          help="What you expect of the change: 0.6 = contacts that spread the disease fell "
+               "by 40%. Low and High bound what the fit may find; needed when a change date "
+               "is given."),
+    Field(name="fit.initial_infections_factor", target="fit.initial_infections_factor",
+          sheet=OBSERVED, label="Infections at day 0 may be off by a factor of", unit="ratio",
+          type="number", minimum=1.5, maximum=1000.0, default=10.0,
+          help="The fit searches for the infections at day 0 between the Disease sheet's "
+               "figure divided and multiplied by this factor (10 = from a tenth to ten times)."),
     Field(name="observed.date", target="observed[].date",
           sheet=OBSERVED, table="observed", label="Date", unit="date",
           type="date", required=True,

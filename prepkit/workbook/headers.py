@@ -83,8 +83,14 @@ def _table_headings(table: str) -> dict[str, Key]:
 
 
 def find_table_header(grid: Grid, table: str) -> TableHeader | None:
-    """The row holding the key header and the most other column headers of a table."""
+    """The row holding the key header and the most other column headers of a table.
+
+    A row must hold one other header beside the key's (when the table has other columns):
+    a lone cell reading like the key header, such as "date" in the Unit column of an item,
+    is not a table.
+    """
     headings = _table_headings(table)
+    fewest = min(2, len(set(headings.values())))
     key: Key = (TABLES[table].key, "central")
     best: TableHeader | None = None
     for r in grid.rows:
@@ -98,6 +104,6 @@ def find_table_header(grid: Grid, table: str) -> TableHeader | None:
                 duplicates.append(c)
             else:
                 cols[found] = c
-        if key in cols and (best is None or len(cols) > len(best.cols)):
+        if key in cols and len(cols) >= fewest and (best is None or len(cols) > len(best.cols)):
             best = TableHeader(row=r, cols=cols, duplicates=tuple(duplicates))
     return best

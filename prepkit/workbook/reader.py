@@ -169,7 +169,8 @@ class _Reader(CrossChecks):
         )
         # An optional sheet whose items all have defaults may lack its item block (an
         # Observed sheet from before it had one means daily figures).
-        items_needed = sheet in REQUIRED_SHEETS or any(f.default is None for f in item_fields)
+        items_needed = sheet in REQUIRED_SHEETS or any(f.default is None and f.required
+                                                        for f in item_fields)
         if grid is not None and item_fields and item_header is None and items_needed:
             self.report(title, "", ITEM_HEADER,
                         f"a header row with '{ITEM_HEADER}' and "

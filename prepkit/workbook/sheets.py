@@ -100,6 +100,7 @@ SHEET_PURPOSE: dict[str, str] = {
 LEVEL_CHOICES: dict[str, Level] = {"Low": "low", "Central": "central", "High": "high"}
 PAGE_CHOICES: dict[str, str] = {"A4": "A4", "Letter": "Letter"}
 PERIOD_CHOICES: dict[str, str] = {"Daily": "daily", "Weekly totals": "weekly"}
+FIT_CHOICES: dict[str, str] = {"Fit the scenarios": "fit", "Only draw them": "draw"}
 KIND_CHOICES: dict[str, str] = {
     "Fewer contacts": "contacts",
     "Vaccination": "vaccination",

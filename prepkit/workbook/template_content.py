@@ -38,6 +38,7 @@ class SheetContent:
         groups = {
             "details": plan.details, "mixing": plan.contacts, "disease": plan.disease,
             "severity": plan.severity, "capacity": plan.capacity, "workforce": plan.workforce,
+            "fit": plan.fit,
         }
         for f in schema.FIELDS:
             if f.table is None:

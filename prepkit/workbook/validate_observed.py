@@ -1,7 +1,8 @@
 """Checks of the Observed table (see :mod:`prepkit.workbook.validate`).
 
 Errors: a date twice, dates out of order, dates outside the plan, weekly rows
-not 7 days apart, more ICU admissions than admissions. Warning: more
+not 7 days apart, more ICU admissions than admissions, a change date for the
+fit outside the observed dates or without a range for the change. Warning: more
 outbreak patients in beds than the beds plus surge beds (the figures may be
 right, for example when patients are in corridors or other hospitals' beds
 count, but a planner should look).
@@ -58,6 +59,31 @@ def check_observed(
     for row in rows:
         problems += _icu_within_admissions(row)
         problems += _census_within_beds(row, items)
+    problems += _change(dated, items)
+    return problems
+
+
+def _change(dated: Sequence[tuple[TableRow, Got]], items: Mapping[Key, Got]) -> list[Problem]:
+    """A change date the fit can use: inside the observed dates, with a range to estimate."""
+    got = items.get(("fit.change_date", "central"))
+    if got is None or not isinstance(got.value, dt.date) or not dated:
+        return []
+    if items[("fit.method", "central")].value != "fit":
+        return []
+    first, last = dated[0][1].value, dated[-1][1].value
+    problems = []
+    if not first < got.value <= last:  # type: ignore[operator]
+        problems.append(problem(
+            got, f"a date after the first observed date ({first}) and at most the last "
+                 f"({last}): the fit estimates the change from figures on both sides"))
+    low = number_of(items[("fit.change_factor", "low")])
+    high = number_of(items[("fit.change_factor", "high")])
+    if low is not None and high is not None and low == high:
+        factor = items[("fit.change_factor", "high")]
+        problems.append(problem(
+            factor, "Low and High of the change (for example 0.3 and 1.2) when a change "
+                    "date is given, so that the fit can estimate it",
+            f"Low = High = {low:g}"))
     return problems
 
 

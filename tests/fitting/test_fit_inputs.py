@@ -11,6 +11,7 @@ from numpy.testing import assert_allclose
 
 from prepkit.fitting.inputs import CHANGE, INITIAL, SEVERITY, TRANSMISSIBILITY, fit_inputs
 from prepkit.plan import FitSettings, Range3
+from prepkit.plan.fit import CHANGE_MEASURE
 
 
 def test_priors_come_from_the_workbook_ranges() -> None:
@@ -38,10 +39,12 @@ def test_a_change_date_adds_the_change_and_a_point_range_is_not_estimated() -> N
     assert inputs.names == (CHANGE, INITIAL, SEVERITY)
     assert inputs.change_day == 16  # day 0 is 2027-01-04
     sets = inputs.sets(np.array([[0.5, 40.0, 1.2], [0.9, 5.0, 0.8]]))
-    assert_allclose(sets.values.transmissibility_value, [2.2, 2.2])
-    assert_allclose(sets.change_factor, [0.5, 0.9])
+    assert_allclose(sets.transmissibility_value, [2.2, 2.2])
+    # the change m is carried as the compliance 1 - m of a contacts row keeping nothing
+    assert_allclose(sets.compliance[CHANGE_MEASURE], [0.5, 0.1])
+    assert sets.initial_infections is not None
     assert_allclose(sets.initial_infections, [40.0, 5.0])
     central = np.array([0.002, 0.01, 0.05])
-    assert_allclose(sets.values.admitted_share, [1.2 * central, 0.8 * central], rtol=1e-12)
-    assert_allclose(sets.values.latent_period_days,
+    assert_allclose(sets.admitted_share, [1.2 * central, 0.8 * central], rtol=1e-12)
+    assert_allclose(sets.latent_period_days,
                     np.repeat(inputs.central.latent_period_days, 2))

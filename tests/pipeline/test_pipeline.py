@@ -37,6 +37,7 @@ from prepkit import errors
 from prepkit.cli.env import in_ci
 from prepkit.cli.main import main
 from prepkit.errors import InputChangedError
+from prepkit.fitting.project import fit_stage
 from prepkit.pipeline import demo, progress
 from prepkit.pipeline import jobs as pipeline_jobs
 from prepkit.pipeline import pack as pipeline_pack
@@ -98,7 +99,7 @@ class Rendered:
 
 def _rendered(workbook: Path, outdir: Path, report: str, messages: list[str], before: str
               ) -> Rendered:
-    plan = read_plan(workbook)
+    plan, _ = fit_stage(read_plan(workbook))  # the plan the pack projected (fitted if it can be)
     reader = PdfReader(outdir / "briefing-pack.pdf")
     return Rendered(
         workbook=workbook, outdir=outdir, report=report, messages=messages, digest_before=before,

@@ -68,11 +68,14 @@ def test_each_set_has_its_own_initial_infections(central: Any) -> None:
 def test_admitted_multiplier_scales_admissions_before_any_measure(central: Any) -> None:
     # common practice, no source: admissions are (admitted share) x (onsets) and hospital
     # patients do not transmit, so while waiting patients are few the first days' admissions
-    # scale with the multiplier; a multiplier past the symptomatic share is refused
+    # scale with the multiplier; a product past the symptomatic share is cut to it, as in
+    # every run (everyone with symptoms admitted)
     plan, model, values = central
     two = take_draws(values, np.zeros(2, dtype=np.int64))
     got = run_batch(model, plan, two, admitted_multiplier=np.array([1.0, 0.5]))
     ratio = got.admissions_per_day[1, :5] / got.admissions_per_day[0, :5]
     assert_allclose(ratio, 0.5, rtol=1e-2)
-    with pytest.raises(ValueError, match="symptomatic share"):
-        run_batch(model, plan, two, admitted_multiplier=np.array([1.0, 1e6]))
+    huge = run_batch(model, plan, two, admitted_multiplier=np.array([1e6, 1e6]))
+    everyone = replace(two, admitted_share=two.symptomatic_share)
+    assert_allclose(huge.admissions_per_day, run_batch(model, plan, everyone).admissions_per_day,
+                    rtol=1e-12)

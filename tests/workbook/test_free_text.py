@@ -15,6 +15,7 @@ import json
 from pathlib import Path
 
 import matplotlib
+import matplotlib.text
 import openpyxl
 import pytest
 from conftest import small_plan

@@ -16,6 +16,7 @@ import pytest
 from conftest import Editor, small_plan
 
 from prepkit.errors import Problem
+from prepkit.plan import FitSettings, Range3
 from prepkit.plan.records import Observation, admissions_per_day
 from prepkit.workbook.reader import read_plan_with_warnings
 from prepkit.workbook.sheets import ITEM_HEADER, OBSERVED
@@ -62,11 +63,64 @@ def test_an_observed_sheet_without_the_period_block_means_daily_figures(editor: 
     # A workbook from before the period existed: the Observed sheet holds only its table.
     ws = editor.wb[OBS]
     header = next(c.row for c in ws["A"] if c.value == ITEM_HEADER)
-    ws.delete_rows(header, 2)
+    table = next(c.row for c in ws["A"] if c.value == "Date")
+    ws.delete_rows(header, table - header)
     read, warnings = editor.read()
     assert warnings == ()
     assert read.details.observed_period == "daily"
+    assert read.fit == FitSettings()  # fit when there are enough figures, no change date
     assert len(read.observed) == 3
+
+
+@pytest.mark.filterwarnings("ignore:File may not be readable")
+def test_an_observed_sheet_from_before_the_fit_settings_reads_with_their_defaults(
+    editor: Editor,
+) -> None:
+    ws = editor.wb[OBS]
+    first = editor.item(OBS, "Use the figures to").row
+    ws.delete_rows(first, 4)
+    read, warnings = editor.read()
+    assert read.fit == FitSettings()
+    assert {w.field for w in warnings} == {
+        "Use the figures to", "Spread after that day, relative to before",
+        "Infections at day 0 may be off by a factor of"}
+    assert all("default" in w.expected for w in warnings)
+
+
+def test_the_fit_settings_survive_a_round_trip(tmp_path: Path) -> None:
+    plan = small_plan()
+    fit = FitSettings(method="draw", change_date=dt.date(2027, 1, 11),
+                      change_factor=Range3(low=0.3, central=0.6, high=1.1),
+                      initial_infections_factor=20.0)
+    path = tmp_path / "fit.xlsx"
+    write_workbook(path, dataclasses.replace(plan, fit=fit))
+    read, _ = read_plan_with_warnings(path)
+    assert read.fit == fit
+
+
+def test_a_change_date_must_lie_inside_the_observed_dates(editor: Editor) -> None:
+    cell = editor.item(OBS, "Spread changed on")
+    cell.value = dt.date(2027, 1, 10)  # the first observed date: nothing before it to compare
+    editor.item(OBS, "Spread after that day, relative to before", "low").value = 0.3
+    editor.item(OBS, "Spread after that day, relative to before", "high").value = 1.2
+    got = _only_at(editor, cell)
+    assert got.expected.startswith("a date after the first observed date (2027-01-10) and at "
+                                   "most the last (2027-01-12)")
+
+
+def test_a_change_date_needs_a_range_for_the_change(editor: Editor) -> None:
+    editor.item(OBS, "Spread changed on").value = dt.date(2027, 1, 11)
+    high = editor.item(OBS, "Spread after that day, relative to before", "high")
+    got = _only_at(editor, high)
+    assert got.expected.startswith("Low and High of the change")
+    assert got.found == "Low = High = 1"
+
+
+def test_a_change_date_is_not_checked_when_the_figures_are_only_drawn(editor: Editor) -> None:
+    editor.item(OBS, "Use the figures to").value = "Only draw them"
+    editor.item(OBS, "Spread changed on").value = dt.date(2027, 1, 11)
+    read, warnings = editor.read()
+    assert read.fit.method == "draw" and warnings == ()
 
 
 def test_observed_dates_must_be_in_order(editor: Editor) -> None:

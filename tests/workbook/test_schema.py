@@ -8,6 +8,7 @@ import pytest
 
 import prepkit.plan as plan_module
 from prepkit.plan.details import Details
+from prepkit.plan.fit import FitSettings
 from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook import schema
 from prepkit.workbook.field_types import Field
@@ -115,7 +116,7 @@ def test_item_fields_map_onto_plan_attributes() -> None:
     groups = {
         "details": Details, "mixing": plan_module.Contacts,
         "disease": plan_module.Disease, "severity": plan_module.Severity,
-        "capacity": Capacity, "workforce": Workforce,
+        "capacity": Capacity, "workforce": Workforce, "fit": FitSettings,
     }
     for f in FIELDS:
         if f.table is None:

@@ -9,6 +9,7 @@ import pytest
 
 from prepkit.plan import AgeBand, Contacts, Disease, Intervention, Plan, Scenario, Severity
 from prepkit.plan.details import Details
+from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import Observation
 from prepkit.plan.resources import Capacity, Workforce
 from prepkit.workbook.build import SPECIAL_SECTIONS, section_fields
@@ -20,6 +21,7 @@ SECTIONS: dict[str, type] = {
     "details": Details, "bands": AgeBand, "contacts": Contacts, "disease": Disease,
     "severity": Severity, "capacity": Capacity, "workforce": Workforce,
     "interventions": Intervention, "scenarios": Scenario, "observed": Observation,
+    "fit": FitSettings,
 }
 
 

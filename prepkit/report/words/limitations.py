@@ -91,7 +91,18 @@ def limitations(plan: Plan, *, ensemble: bool = False) -> tuple[tuple[str, str],
                 "patients.",
             )
         )
-    if plan.observed:
+    if plan.observed and plan.fitted is not None:
+        points.append(
+            (
+                "Fitted to observed figures",
+                f"The projections are fitted to the {_observed_span(plan)} of observed new "
+                "admissions. A fit to a few weeks of early figures says how fast the outbreak "
+                "grew then, not how people will behave next: the ranges carry the fit's "
+                "uncertainty, not surprises. Admissions are fitted; patients in beds are shown "
+                "as a check only. Rerun the pack as new figures arrive.",
+            )
+        )
+    elif plan.observed:
         points.append(
             (
                 "Observed figures",

@@ -7,9 +7,11 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
+from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
 from prepkit.report.words.assumptions import assumption_groups
 from prepkit.report.words.comparison import MEASURE_NAMES, comparison_tables, transmissibility_rows
+from prepkit.report.words.fit_text import fit_context, fit_leader_line
 from prepkit.report.words.formatting import format_date, format_days, format_number
 from prepkit.report.words.leader import (
     CAUTION_LINE,
@@ -29,7 +31,8 @@ from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.results import UncertaintyResults
 
 
-def provenance_line(plan: Plan, *, version: str, generated: dt.datetime) -> str:
+def provenance_line(plan: Plan, *, version: str, generated: dt.datetime,
+                    as_of: str = "") -> str:
     """The footer line printed on every page.
 
     Parameters
@@ -40,19 +43,23 @@ def provenance_line(plan: Plan, *, version: str, generated: dt.datetime) -> str:
         prepkit version.
     generated : datetime.datetime
         Run time (from :func:`prepkit.base.files.source_date`).
+    as_of : str
+        The last observed date the projections are fitted to, formatted; ""
+        when they are not fitted.
 
     Returns
     -------
     str
-        Jurisdiction, input file name and short SHA-256, version, run time
-        (UTC) and seed.
+        Jurisdiction, the date of the local figures (when fitted), input file
+        name and short SHA-256, version, run time (UTC) and seed.
     """
     name = plan.source.path.replace("\\", "/").rsplit("/", 1)[-1] or "workbook"
     digest = plan.source.sha256[:12] if plan.source.sha256 else "not recorded"
     stamp = generated.astimezone(dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
+    fitted = f" · fitted to figures as of {as_of}" if as_of else ""
     return (
-        f"{plan.details.jurisdiction} · input {name} (SHA-256 {digest}) · prepkit {version} · "
-        f"run {stamp} · seed {plan.details.seed}"
+        f"{plan.details.jurisdiction}{fitted} · input {name} (SHA-256 {digest}) · "
+        f"prepkit {version} · run {stamp} · seed {plan.details.seed}"
     )
 
 
@@ -96,11 +103,14 @@ class PackFigures:
         Charts comparing scenarios.
     uncertainty : tuple of FigureView
         Ensemble charts (empty when no ensemble was run).
+    fit : FigureView or None
+        The observed figures against the fitted model (None without a fit).
     """
 
     by_scenario: Mapping[int, FigureView] = field(default_factory=dict)
     across: tuple[FigureView, ...] = ()
     uncertainty: tuple[FigureView, ...] = ()
+    fit: FigureView | None = None
 
 
 def build_context(
@@ -114,6 +124,7 @@ def build_context(
     files: Sequence[tuple[str, str]] = (),
     notes: Sequence[str] = (),
     inline_css: str | None = None,
+    fit: FitOutcome | None = None,
 ) -> dict[str, Any]:
     """Variables of ``pack.html.j2``.
 
@@ -139,6 +150,9 @@ def build_context(
     inline_css : str, optional
         Stylesheet text to inline (the standalone HTML file); None links
         ``pack.css`` (the PDF).
+    fit : FitOutcome, optional
+        What came of fitting the plan to its observed figures; ``plan`` is
+        then the plan the projections ran.
 
     Returns
     -------
@@ -151,18 +165,23 @@ def build_context(
     d = plan.details
     title = d.title
     headline = measures_headline(views)
+    fit_words = fit_context(plan, fit)
+    as_of = fit_words.as_of if fit_words is not None and fit_words.used else ""
+    flag = fit_leader_line(plan, fit) if fit is not None else observed_flag(views)
     return {
         "title": title,
         "page_size": d.page_size,
         "lang": "en",
         "inline_css": inline_css,
-        "provenance": provenance_line(plan, version=version, generated=generated),
+        "provenance": provenance_line(plan, version=version, generated=generated, as_of=as_of),
         "plan": _plan_variables(plan),
         "run": _run_variables(plan, version=version, generated=generated),
         "caution": CAUTION_LINE,
         "decisions": DECISIONS_LINE,
         "bottom_line": bottom_line(views),
-        "observed_flag": observed_flag(views),
+        "observed_flag": flag,
+        "fit": fit_words,
+        "as_of": as_of,
         "deaths_note": DEATHS_NOTE,
         "headline": headline,
         "headline_measures": headline_measures_text(headline) if headline else "",

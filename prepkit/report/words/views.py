@@ -82,6 +82,9 @@ class ScenarioView:
     observed : tuple of ObservedCheck
         The scenario (with measures) against the latest observed census
         (:func:`with_observations`); empty without observations.
+    fitted : bool
+        True when the plan is fitted to its observed figures (the scenario
+        runs at the fitted spread and severity, not at its levels).
     """
 
     number: int
@@ -93,6 +96,7 @@ class ScenarioView:
     last_day: dt.date
     measure_spans: tuple[MeasureSpan, ...] = ()
     observed: tuple[ObservedCheck, ...] = ()
+    fitted: bool = False
 
     @property
     def name(self) -> str:
@@ -123,8 +127,10 @@ class ScenarioView:
 
     @property
     def levels_text(self) -> str:
-        """``High transmissibility, high severity``."""
+        """``High transmissibility, high severity``, or the fitted spread and severity."""
         s = self.item.scenario
+        if self.fitted:
+            return "Spread and severity fitted to the local figures"
         return (
             f"{LEVEL_WORDS[s.transmissibility_level]} transmissibility, "
             f"{LEVEL_WORDS[s.severity_level].lower()} severity"
@@ -229,6 +235,7 @@ def scenario_views(plan: Plan, results: PlanResults) -> tuple[ScenarioView, ...]
                 measure_spans=_active_spans(
                     plan, item.with_interventions, item.scenario.interventions
                 ),
+                fitted=plan.fitted is not None,
             )
         )
     return tuple(out)
