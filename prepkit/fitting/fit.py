@@ -32,7 +32,7 @@ from prepkit.fitting.sampler import (
     sample_posterior,
 )
 from prepkit.fitting.simulator import course_simulator
-from prepkit.plan import Plan
+from prepkit.plan import FittedValues, Plan
 from prepkit.plan.records import Source
 
 __all__ = ["PREDICTIVE_DRAWS", "Fitted", "NotFitted", "fit_plan"]
@@ -78,6 +78,12 @@ class Fitted:
         tail = (1.0 - share) / 2.0
         low, mid, high = np.quantile(draws, [tail, 0.5, 1.0 - tail])
         return float(mid), float(low), float(high)
+
+    def draws(self, seed: int) -> FittedValues:
+        """The kept posterior draws as fitted values, in a random order drawn with ``seed``."""
+        kept = self.posterior.samples()[:, :-1]
+        order = np.random.default_rng(seed).permutation(kept.shape[0])
+        return self.inputs.fitted(kept[order])
 
     @property
     def has_change(self) -> bool:

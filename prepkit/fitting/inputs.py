@@ -53,15 +53,12 @@ class FitInputs:
         Priors of the estimated inputs, in column order.
     central : DrawValues
         Every input at its Central value (one row).
-    initial_infections : float
-        The Disease sheet's infections at day 0 [persons].
     change_day : int or None
         Model day from which the change applies [days since day 0].
     """
 
     priors: tuple[Prior, ...]
     central: DrawValues
-    initial_infections: float
     change_day: int | None
 
     @property
@@ -107,9 +104,16 @@ class FitInputs:
         DrawValues
             One row per set (:func:`prepkit.simulation.draw_values.with_fitted`).
         """
-        x = np.atleast_2d(np.asarray(theta, dtype=np.float64))
-        central = take_draws(self.central, np.zeros(x.shape[0], dtype=np.int64))
-        return with_fitted(central, self.fitted(x))
+        return self.values(self.fitted(theta))
+
+    def values(self, fitted: FittedValues) -> DrawValues:
+        """Model inputs of fitted values, one row per fitted row.
+
+        The Central inputs with the fitted ones replaced
+        (:func:`prepkit.simulation.draw_values.with_fitted`).
+        """
+        central = take_draws(self.central, np.zeros(fitted.rows, dtype=np.int64))
+        return with_fitted(central, fitted)
 
 
 def _transmissibility(plan: Plan) -> tuple[str, Range3]:
@@ -173,5 +177,4 @@ def fit_inputs(plan: Plan) -> FitInputs:
     course = Scenario(name="Observed course", transmissibility_level="central",
                       severity_level="central", interventions=())
     central = DrawValues.of_inputs(resolve_inputs(plan, course))
-    return FitInputs(priors=tuple(priors), central=central, initial_infections=seeds,
-                     change_day=change_day)
+    return FitInputs(priors=tuple(priors), central=central, change_day=change_day)

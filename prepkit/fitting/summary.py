@@ -7,9 +7,11 @@ from typing import Any
 
 import numpy as np
 
-from prepkit.fitting.project import BAND_QUANTILES, RULED_OUT_TAILS, FitOutcome
+from prepkit.fitting.findings import BAND_QUANTILES, RULED_OUT_TAILS
+from prepkit.fitting.project import FitOutcome
+from prepkit.plan import Plan
 
-__all__ = ["FIT_DAILY_COLUMNS", "fit_daily_rows", "fit_summary", "observed_by_date"]
+__all__ = ["FIT_DAILY_COLUMNS", "fit_daily_rows", "fit_summary"]
 
 _SERIES = (("admissions", "admissions_per_day"), ("ward", "ward_census_persons"),
            ("icu", "icu_census_persons"))
@@ -37,25 +39,25 @@ def _triple(values: tuple[float, float, float]) -> dict[str, float | None]:
 
 
 
-def fit_daily_rows(outcome: FitOutcome, day0: dt.date,
-                   observed: dict[dt.date, tuple[float | None, float | None, float | None]]
-                   ) -> list[dict[str, Any]]:
+def fit_daily_rows(outcome: FitOutcome | None, plan: Plan) -> list[dict[str, Any]]:
     """One row per fitted day: the observed figures beside the fitted quantiles.
 
     Parameters
     ----------
-    outcome : FitOutcome
+    outcome : FitOutcome or None
         What came of the fit (rows only when there is a report).
-    day0 : datetime.date
-        Day 0 of the plan.
-    observed : dict
-        Date to (admissions, ward census, ICU census) as the workbook gives them.
+    plan : Plan
+        The plan (day 0 and the observed figures as the workbook gives them).
 
     Returns
     -------
     list of dict
         Keys of :data:`FIT_DAILY_COLUMNS`; blank figures are None.
     """
+    if outcome is None:
+        return []
+    observed = {o.date: (o.admissions, o.ward_census, o.icu_census) for o in plan.observed}
+    day0 = plan.details.day0
     report = outcome.report
     if report is None:
         return []
@@ -126,12 +128,6 @@ def fit_summary(outcome: FitOutcome | None) -> dict[str, Any] | None:
         },
     })
     return out
-
-
-def observed_by_date(observations: Any) -> dict[dt.date, tuple[float | None, float | None,
-                                                               float | None]]:
-    """Date to (admissions, ward census, ICU census) of the plan's observations."""
-    return {o.date: (o.admissions, o.ward_census, o.icu_census) for o in observations}
 
 
 def _finite(x: float) -> float | None:

@@ -4,12 +4,15 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
 
 import matplotlib.dates as mdates
 import numpy as np
 from matplotlib.figure import Figure
+from numpy.typing import NDArray
 
-from prepkit.fitting.project import FitOutcome, FitReport
+from prepkit.fitting.findings import FitReport
+from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
 from prepkit.plan.records import admissions_per_day
 from prepkit.report.charts_base import (
@@ -23,6 +26,9 @@ from prepkit.report.charts_base import (
 )
 from prepkit.report.style import CSS_COLORS, OKABE_ITO, PageSize, figure_size
 from prepkit.report.words.fit_text import fit_chart_words
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
 
 __all__ = ["FIT_CHART", "fit_chart", "fit_chart_jobs"]
 
@@ -44,13 +50,13 @@ def fit_chart_jobs(plan: Plan, fit: FitOutcome | None) -> list[Callable[[], Char
     return [lambda: fit_chart(plan, report, plan.details.page_size)]
 
 
-def _bands(ax: object, x: np.ndarray, q: np.ndarray, color: str, label: str) -> None:
-    ax.fill_between(x, q[0], q[4], color=OUTER_FILL, linewidth=0,  # type: ignore[attr-defined]
+def _bands(ax: Axes, x: NDArray[Any], q: NDArray[np.float64], color: str, label: str) -> None:
+    ax.fill_between(x, q[0], q[4], color=OUTER_FILL, linewidth=0,
                     label="90% range" if label else None)
-    ax.fill_between(x, q[1], q[3], color=INNER_FILL, linewidth=0,  # type: ignore[attr-defined]
+    ax.fill_between(x, q[1], q[3], color=INNER_FILL, linewidth=0,
                     label="50% range" if label else None)
-    ax.plot(x, q[2], color=color, linewidth=1.6, linestyle="-",  # type: ignore[attr-defined]
-            marker="", label=f"Fitted model, median{label}")
+    ax.plot(x, q[2], color=color, linewidth=1.6, linestyle="-", marker="",
+            label=f"Fitted model, median{label}")
 
 
 def fit_chart(plan: Plan, report: FitReport, page_size: PageSize) -> Chart:
@@ -79,9 +85,9 @@ def fit_chart(plan: Plan, report: FitReport, page_size: PageSize) -> Chart:
     icu = [(o.date, o.icu_census) for o in plan.observed if o.icu_census is not None]
     weekly = plan.details.observed_period == "weekly"
 
-    def dots(ax: object, points: list[tuple[dt.date, float]], label: str, marker: str) -> None:
+    def dots(ax: Axes, points: list[tuple[dt.date, float]], label: str, marker: str) -> None:
         if points:
-            ax.plot([np.datetime64(d) for d, _ in points], [v for _, v in points],  # type: ignore[attr-defined]
+            ax.plot([np.datetime64(d) for d, _ in points], [v for _, v in points],
                     linestyle="none", marker=marker, markersize=3.5, color=CSS_COLORS["ink"],
                     markerfacecolor="white", label=label, zorder=4)
 

@@ -21,7 +21,7 @@ from prepkit.fitting.diagnostics import (
 )
 from prepkit.fitting.project import FitOutcome
 from prepkit.fitting.summary import FIT_DAILY_COLUMNS as DAILY_COLUMNS
-from prepkit.fitting.summary import fit_daily_rows, fit_summary, observed_by_date
+from prepkit.fitting.summary import fit_daily_rows, fit_summary
 from prepkit.plan import Plan
 from prepkit.report.results_workbook_columns import (
     DATE,
@@ -145,7 +145,7 @@ def fit_sheets(plan: Plan, fit: FitOutcome | None) -> tuple[SheetWriter, ...]:
     summary = fit_summary(fit)
     if fit is None or fit.report is None or summary is None:
         return ()
-    daily = fit_daily_rows(fit, plan.details.day0, observed_by_date(plan.observed))
+    daily = fit_daily_rows(fit, plan)
     words = ("The projections start from this fit." if fit.used
              else "The projections do not use this fit: " + fit.reason)
 

@@ -27,7 +27,7 @@ import numpy as np
 import pandas as pd
 
 from prepkit.fitting.project import FitOutcome
-from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows, observed_by_date
+from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows
 from prepkit.plan import Plan
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
@@ -272,7 +272,7 @@ def fit_daily_csv(plan: Plan, fit: FitOutcome | None) -> bytes | None:
         One row per fitted day, the columns of
         :data:`prepkit.fitting.summary.FIT_DAILY_COLUMNS`; None without a fit report.
     """
-    rows = fit_daily_rows(fit, plan.details.day0, observed_by_date(plan.observed)) if fit else []
+    rows = fit_daily_rows(fit, plan)
     if not rows:
         return None
     keys = [key for key, _ in FIT_DAILY_COLUMNS]

@@ -18,8 +18,9 @@ import pytest
 from conftest import small_plan
 from test_fit_model import _observed_plan
 
+from prepkit.fitting.findings import fit_report
 from prepkit.fitting.fit import Fitted, fit_plan
-from prepkit.fitting.project import fit_report, fit_stage, fitted_plan
+from prepkit.fitting.project import fit_stage, fitted_plan
 from prepkit.fitting.summary import fit_summary
 from prepkit.plan import Range3
 from prepkit.plan.fit import CHANGE_MEASURE

@@ -16,8 +16,9 @@ from prepkit.fitting.diagnostics import (
     P_VALUE_RANGE,
     RHAT_LIMIT,
 )
+from prepkit.fitting.findings import RULED_OUT_TAILS, FitReport, Growth
 from prepkit.fitting.inputs import CHANGE, INITIAL, SEVERITY, TRANSMISSIBILITY
-from prepkit.fitting.project import RULED_OUT_TAILS, FitOutcome, FitReport, Growth
+from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
 from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.formatting import format_date, format_number, name_list
