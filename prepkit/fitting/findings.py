@@ -4,8 +4,10 @@ Rules in words
 --------------
 * **Growth** before and, when a change was fitted, after the change date:
   growth rate and reproduction number of each of :data:`CHECK_DRAWS`
-  posterior draws (:mod:`prepkit.fitting.growth`), medians and 90% ranges;
-  the doubling or halving time follows from the growth rate's.
+  posterior draws (:mod:`prepkit.fitting.growth`), medians and 90% ranges,
+  with the share still susceptible at day 0 and the seasonal multiplier in
+  the middle of the period's observed days (R0 is the yearly average, season
+  1); the doubling or halving time follows from the growth rate's.
 * **Fitted bands**: quantiles :data:`BAND_QUANTILES` of the daily
   admissions and census of the same draws over the observed days.
 * **Scenarios the data rule out.** For each scenario as the planner wrote
@@ -87,7 +89,8 @@ class Growth:
     growth_rate : tuple of float
         (median, 5%, 95%) [1/day].
     reproduction_number : tuple of float
-        (median, 5%, 95%) at the start of the figures [dimensionless].
+        (median, 5%, 95%) with the immunity at day 0 and the season in the middle of the
+        period [dimensionless].
     """
 
     period: str
@@ -195,17 +198,34 @@ def _triple(x: NDArray[np.float64]) -> tuple[float, float, float]:
     return float(mid), float(low), float(high)
 
 
-def _growth(plan: Plan, model: CompiledModel, values: DrawValues,
+def _season_middles(fitted: Fitted) -> tuple[float, ...]:
+    """Model day in the middle of the observed days before the change date, and after it [day].
+
+    The first observed row covers its own day (a week for weekly totals); with no change date
+    there is one period, the whole observed span.
+    """
+    data = fitted.data
+    first = float(data.end_days[0]) - (6.0 if data.period == "weekly" else 0.0)
+    last = float(data.end_days[-1])
+    change = fitted.inputs.change_day if fitted.has_change else None
+    if change is None:
+        return ((first + last) / 2.0,)
+    return ((first + change - 1.0) / 2.0, (change + last) / 2.0)
+
+
+def _growth(plan: Plan, model: CompiledModel, values: DrawValues, fitted: Fitted,
             change_factor: NDArray[np.float64] | None) -> tuple[Growth, ...]:
     beta = calibrate_beta(model, values)
     susceptible = 1.0 - np.asarray(plan.disease.prior_immunity, dtype=np.float64)
+    middles = _season_middles(fitted)
     periods = [("before", np.ones(values.size))]
     if change_factor is not None:
         periods.append(("after", change_factor))
     out = []
-    for period, factor in periods:
-        rates = growth_rates(model.pc, model.layout, values, beta, factor, susceptible)
-        rs = reproduction_numbers(model.pc, model.layout, values, beta, factor, susceptible)
+    for (period, factor), middle in zip(periods, middles, strict=True):
+        at_season = factor * model.season(middle)
+        rates = growth_rates(model.pc, model.layout, values, beta, at_season, susceptible)
+        rs = reproduction_numbers(model.pc, model.layout, values, beta, at_season, susceptible)
         out.append(Growth(period=period, growth_rate=_triple(rates),
                           reproduction_number=_triple(rs)))
     return tuple(out)
@@ -297,7 +317,7 @@ def fit_report(plan: Plan, fitted: Fitted) -> FitReport:
         fitted=fitted,
         as_of=data.as_of,
         estimates=_estimates(fitted),
-        growth=_growth(plan, model, values, thinned.change_factor),
+        growth=_growth(plan, model, values, fitted, thinned.change_factor),
         days=np.arange(data.days_needed, dtype=np.int64),
         bands=_bands(model, course, values),
         consistency=_consistency(plan, fitted, seed),
