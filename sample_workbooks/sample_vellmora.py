@@ -281,8 +281,23 @@ def vellmora_plan() -> Plan:
     )
 
 
-#: Invented early hospital figures: (day, new admissions, ward patients, ICU patients).
+#: Invented early hospital figures, 28 days from 11 January to 7 February 2027:
+#: (day, new admissions, ward patients, ICU patients).
 VELLMORA_OBSERVED: tuple[tuple[int, float, float, float], ...] = (
+    (7, 0, 0, 0),
+    (8, 0, 0, 0),
+    (9, 0, 0, 0),
+    (10, 0, 0, 0),
+    (11, 0, 0, 0),
+    (12, 1, 1, 0),
+    (13, 0, 1, 0),
+    (14, 0, 1, 0),
+    (15, 0, 1, 0),
+    (16, 0, 1, 0),
+    (17, 1, 2, 0),
+    (18, 0, 2, 0),
+    (19, 0, 1, 0),
+    (20, 1, 1, 0),
     (21, 1, 2, 0),
     (22, 0, 2, 1),
     (23, 2, 4, 1),
@@ -293,6 +308,10 @@ VELLMORA_OBSERVED: tuple[tuple[int, float, float, float], ...] = (
     (28, 4, 11, 2),
     (29, 3, 12, 3),
     (30, 5, 15, 3),
+    (31, 4, 17, 3),
+    (32, 6, 19, 4),
+    (33, 5, 21, 4),
+    (34, 7, 25, 5),
 )
 
 

@@ -128,6 +128,9 @@ def _add_run(sub: _Commands, formatter: type[argparse.HelpFormatter]) -> None:
     r.add_argument("--summary-only", action="store_true",
                    help="compute the metrics and write only the JSON summary given by "
                         "--summary-json, no pack (default: write the whole pack)")
+    r.add_argument("--no-fit", action="store_true",
+                   help="do not fit the scenarios to the Observed sheet's figures; only draw "
+                        "them (default: fit when the sheet asks for it)")
     r.add_argument("-q", "--quiet", action="store_true", help=QUIET_HELP)
     r.add_argument("--force", action="store_true", help=FORCE_HELP)
     r.add_argument("--scheduler", default=None, metavar="ADDRESS",
@@ -291,6 +294,7 @@ def _run(args: argparse.Namespace) -> int:
         force=args.force,
         quiet=args.quiet or in_ci(),
         terminal=on_terminal(),
+        fit=not args.no_fit,
     )
     report = run_workbook(args.workbook, options, say=_sayer(args.quiet))
     if not args.quiet:

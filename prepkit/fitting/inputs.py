@@ -37,10 +37,12 @@ INITIAL = "initial_infections"
 SEVERITY = "admitted_share_multiplier"
 
 _MEASURE_WORDS = {
-    "r0": ("Basic reproduction number R0 before the change", ""),
-    "doubling_time": ("Doubling time of infections before the change", "days"),
-    "growth_rate": ("Growth rate of infections before the change", "per day"),
+    "r0": ("Basic reproduction number R0", ""),
+    "doubling_time": ("Doubling time of infections", "days"),
+    "growth_rate": ("Growth rate of infections", "per day"),
 }
+"""Label and unit of the estimated transmissibility by the plan's measure of it; with a change
+date the label ends "before the change"."""
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
@@ -151,11 +153,13 @@ def fit_inputs(plan: Plan) -> FitInputs:
     """
     priors: list[Prior] = []
     measure, spread = _transmissibility(plan)
+    settings = plan.fit
     if not spread.is_point:
         label, unit = _MEASURE_WORDS[measure]
+        if settings.change_date is not None:
+            label += " before the change"
         priors.append(Prior(name=TRANSMISSIBILITY, label=label, unit=unit, kind="pert",
                             low=spread.low, mode=spread.central, high=spread.high))
-    settings = plan.fit
     change_day = None
     if settings.change_date is not None:
         change_day = plan.day_of(settings.change_date)

@@ -43,7 +43,7 @@ from prepkit.fitting.inputs import SEVERITY
 from prepkit.plan import SETTINGS, End, Intervention, Plan, Range3, Start
 from prepkit.plan.fit import CHANGE_MEASURE
 
-__all__ = ["FitOutcome", "fit_stage", "fitted_plan", "moved_measures"]
+__all__ = ["NOT_ASKED", "FitOutcome", "fit_stage", "fitted_plan", "moved_measures"]
 
 
 def _quantiles(column: NDArray[np.float64]) -> Range3:
@@ -152,7 +152,12 @@ class FitOutcome:
         return self.report is not None and self.report.usable
 
 
-def fit_stage(plan: Plan, say: Callable[[str], None] | None = None
+NOT_ASKED = ("This run was asked not to fit (--no-fit): the observed figures are drawn beside "
+             "the scenarios, which start from the workbook's figures.")
+"""Why a run with ``--no-fit`` is not fitted, in the pack's words."""
+
+
+def fit_stage(plan: Plan, say: Callable[[str], None] | None = None, *, asked: bool = True
               ) -> tuple[Plan, FitOutcome | None]:
     """Fit the plan when it asks for it and has enough figures; the plan to project from.
 
@@ -162,6 +167,8 @@ def fit_stage(plan: Plan, say: Callable[[str], None] | None = None
         The planner's plan.
     say : callable, optional
         Told once, before the sampler starts (the slow step).
+    asked : bool
+        False when the run was told not to fit (``--no-fit``).
 
     Returns
     -------
@@ -171,6 +178,8 @@ def fit_stage(plan: Plan, say: Callable[[str], None] | None = None
     """
     if not plan.observed:
         return plan, None
+    if not asked:
+        return plan, FitOutcome(report=None, reason=NOT_ASKED)
     got = fit_plan(plan, before_sampling=say)
     if isinstance(got, NotFitted):
         return plan, FitOutcome(report=None, reason=got.reason)

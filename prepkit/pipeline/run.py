@@ -78,6 +78,9 @@ class RunOptions:
     terminal : bool
         Progress goes to a terminal, where a progress bar may be drawn (the
         command line says whether it does).
+    fit : bool
+        Fit the plan to its observed figures when it asks for it (``--no-fit``
+        turns it off: the figures are only drawn).
     """
 
     outdir: Path | None
@@ -88,6 +91,7 @@ class RunOptions:
     scheduler: str | None = None
     force: bool = False
     terminal: bool = False
+    fit: bool = True
 
 
 def _read(path: Path) -> tuple[Plan, str, tuple[str, ...]]:
@@ -203,7 +207,7 @@ def run_to_pack(
     compiling = first_use_note()
     if compiling is not None:
         steps(compiling)
-    plan, fit = fit_stage(plan, say=steps)
+    plan, fit = fit_stage(plan, say=steps, asked=options.fit)
     if fit is not None and fit.reason:
         steps(f"Note: {fit.reason}")
     each = "with and" if len(plan.scenarios) == 1 else "each with and"

@@ -11,7 +11,8 @@ from numpy.typing import NDArray
 
 from prepkit.plan.ranges import Range3
 
-__all__ = ["CHANGE_MEASURE", "MIN_FIT_POINTS", "FitMethod", "FitSettings", "FittedValues"]
+__all__ = ["CHANGE_MEASURE", "FEW_FIT_POINTS", "MIN_FIT_POINTS", "FitMethod", "FitSettings",
+           "FittedValues"]
 
 FitMethod = Literal["fit", "draw"]
 
@@ -20,10 +21,14 @@ CHANGE_MEASURE = "Fitted change in spread"
 (a contacts measure with every setting kept at 0 and compliance ``1 - m``, so that contacts are
 multiplied by ``m``)."""
 
-MIN_FIT_POINTS: dict[str, int] = {"daily": 10, "weekly": 4}
+MIN_FIT_POINTS: dict[str, int] = {"daily": 5, "weekly": 3}
 """Fewest rows with admissions worth fitting, by how the figures are kept: fewer cannot tell
 the growth of admissions from their level and from chance. A project rule, stated where the
 planner enters the figures and in the pack."""
+
+FEW_FIT_POINTS: dict[str, int] = {"daily": 14, "weekly": 4}
+"""Below this many rows a fit is made and used, but the pack warns that it rests on few figures
+and that its ranges are wide (two weeks of daily figures, four weekly totals: a project rule)."""
 
 
 @dataclass(frozen=True, kw_only=True)

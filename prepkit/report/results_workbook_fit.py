@@ -87,8 +87,11 @@ def _fit_rows(summary: dict[str, Any]) -> list[tuple[Any, ...]]:
     for e in summary.get("estimates", []):
         rows.append(("Estimate", e["label"], e["median"], e["low_5"], e["high_95"], e["unit"],
                      f"prior range {e['prior_low']:.4g} to {e['prior_high']:.4g}"))
-    for g in summary.get("growth", []):
-        when = "before the change date" if g["period"] == "before" else "after the change date"
+    growth = summary.get("growth", [])
+    for g in growth:
+        when = ("over the observed days" if len(growth) == 1
+                else "before the change date" if g["period"] == "before"
+                else "after the change date")
         for key, words, unit in (
             ("growth_rate_per_day", "Growth rate", "per day"),
             ("doubling_or_halving_days", "Doubling (or halving) time", "days"),

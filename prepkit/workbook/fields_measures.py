@@ -6,6 +6,7 @@ Each declared once; the layout rules are in :mod:`prepkit.workbook.schema`.
 from __future__ import annotations
 
 from prepkit.plan import SETTINGS
+from prepkit.plan.fit import MIN_FIT_POINTS
 from prepkit.workbook.field_types import Field, Sampled
 from prepkit.workbook.sheets import (
     END_CHOICES,
@@ -155,8 +156,9 @@ MEASURE_FIELDS: tuple[Field, ...] = (
           choices=FIT_CHOICES, default="Fit the scenarios",
           help="Fit the scenarios: estimate how fast the disease spreads here, how many were "
                "infected at day 0 and how severe it is, from the new admissions, and project "
-               "every scenario from that (needs at least 10 daily or 4 weekly rows with "
-               "admissions). Only draw them: show the figures beside the scenarios."),
+               "every scenario from that (needs at least "
+               f"{MIN_FIT_POINTS['daily']} daily or {MIN_FIT_POINTS['weekly']} weekly rows "
+               "with admissions). Only draw them: show the figures beside the scenarios."),
     Field(name="fit.change_date", target="fit.change_date",
           sheet=OBSERVED, label="Spread changed on", unit="date", type="date",
           help="The day spread changed while the figures were kept (measures began, people "

@@ -45,7 +45,7 @@ def test_first_run_says_once_before_compiling_how_long_it_takes(
         "Reading plan.xlsx",
         "Preparing the compiled model for first use (about 40 s, longer on a busy machine; "
         "later runs skip this).",
-        "Note: Only 3 days of observed admissions are given; at least 10 are needed to fit "
+        "Note: Only 3 days of observed admissions are given; at least 5 are needed to fit "
         "the scenarios to local data, so the projections are not fitted.",
         "Running both scenarios, each with and without its measures",
     ]

@@ -127,9 +127,10 @@ def test_the_predictive_check_covers_about_ninety_percent_of_well_modelled_count
 
 
 def test_the_fewest_points_rule_is_a_clear_sentence() -> None:
-    assert "Only 3 days of observed admissions" in str(too_few_points(_data(np.ones(3))))
-    assert too_few_points(_data(np.ones(12))) is None
-    assert "at least 4 are needed" in str(too_few_points(_data(np.ones(3), "weekly")))
+    assert "Only 4 days of observed admissions" in str(too_few_points(_data(np.ones(4))))
+    assert too_few_points(_data(np.ones(5))) is None
+    assert "at least 3 are needed" in str(too_few_points(_data(np.ones(2), "weekly")))
+    assert too_few_points(_data(np.ones(3), "weekly")) is None
     assert too_few_points(None) is not None
 
 

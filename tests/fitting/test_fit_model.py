@@ -51,7 +51,7 @@ def test_the_fit_recovers_the_inputs_that_made_the_observations() -> None:
 
 def test_too_few_observations_are_not_fitted() -> None:
     plan = _observed_plan()
-    short = dataclasses.replace(plan, observed=plan.observed[:6])
+    short = dataclasses.replace(plan, observed=plan.observed[:4])
     got = fit_plan(short)
     assert isinstance(got, NotFitted)
-    assert "Only 6 days of observed admissions" in got.reason
+    assert "Only 4 days of observed admissions" in got.reason

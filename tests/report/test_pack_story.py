@@ -265,7 +265,7 @@ def test_scenario_pages_compare_with_the_observations(city: tuple[_Text, Path, o
     # the figures rule out as the workbook describes them (the census check of each fitted
     # projection stays on its scenario page).
     leader = parsed.section("summary")
-    assert "fitted to local hospital figures up to 3 Feb 2027" in leader
+    assert "fitted to local hospital figures up to 7 Feb 2027" in leader
     assert "“Slow spread, mild, isolation only” are already ruled out" in leader
     assert observed_flag(views) not in leader or not observed_flag(views)
     assert not flagged  # fitted to admissions, every projection also fits the ward census

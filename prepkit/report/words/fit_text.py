@@ -20,10 +20,12 @@ from prepkit.fitting.findings import RULED_OUT_TAILS, FitReport, Growth
 from prepkit.fitting.inputs import CHANGE, INITIAL, SEVERITY, TRANSMISSIBILITY
 from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
+from prepkit.plan.fit import FEW_FIT_POINTS
 from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.formatting import format_date, format_number, name_list
 
-__all__ = ["FitRow", "FitWords", "fit_chart_words", "fit_context", "fit_leader_line"]
+__all__ = ["FitRow", "FitWords", "few_figures_caution", "fit_chart_words", "fit_context",
+           "fit_leader_line"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -136,6 +138,23 @@ def _lead(plan: Plan, fit: FitOutcome, report: FitReport) -> tuple[str, ...]:
                 "instead of the date the workbook gives (give a measure already in force as "
                 "the Observed sheet's change date).")
     return tuple(sentences)
+
+
+def few_figures_caution(report: FitReport) -> str:
+    """A caution when the fit rests on fewer rows than :data:`FEW_FIT_POINTS`; else ""."""
+    data = report.fitted.data
+    rows = int(data.admissions.size)
+    if rows >= FEW_FIT_POINTS[data.period]:
+        return ""
+    unit = "weekly totals" if data.period == "weekly" else "days of figures"
+    return (f"The fit rests on only {rows} {unit}: its ranges are wide, and the figures of "
+            "the next days can move it a lot")
+
+
+def _warnings(report: FitReport) -> tuple[str, ...]:
+    """The fit's problems and the few-figures caution, for the warning box."""
+    few = few_figures_caution(report)
+    return report.problems + ((few,) if few else ())
 
 
 def _estimate_rows(report: FitReport) -> tuple[FitRow, ...]:
@@ -251,7 +270,7 @@ def fit_context(plan: Plan, fit: FitOutcome | None) -> FitWords | None:
         used=fit.used,
         lead=_lead(plan, fit, report),
         reason=fit.reason,
-        warnings=tuple(p[0].upper() + p[1:] + "." for p in report.problems),
+        warnings=tuple(p[0].upper() + p[1:] + "." for p in _warnings(report)),
         estimates=_estimate_rows(report),
         growth=_growth_rows(plan, report),
         scenarios=_scenario_rows(report),
@@ -279,6 +298,9 @@ def fit_leader_line(plan: Plan, fit: FitOutcome | None) -> str:
         names = name_list(ruled)
         text += (f" The spread and severity the workbook gives {names} are already ruled out "
                  "by the figures.")
+    few = few_figures_caution(report)
+    if few:
+        text += f" {few}."
     if report.problems:
         text += " The fit has warnings: see 'What the local figures say'."
     return text
