@@ -41,6 +41,7 @@ from prepkit.pipeline.progress import Say, Steps
 from prepkit.pipeline.summary import summary_bytes
 from prepkit.plan import Plan
 from prepkit.report.words.leader import CAUTION_LINE, bottom_line
+from prepkit.report.words.review import review_words
 from prepkit.report.words.views import scenario_views
 from prepkit.scenarios.runs import PlanResults, run_plan
 from prepkit.workbook.describe import all_of
@@ -201,6 +202,9 @@ def run_to_pack(
     plan, digest, notes = _read(workbook)
     for note in notes:
         steps(f"Note: {note}")
+    review = review_words(plan, generated)
+    if review.passed:
+        steps(f"Warning: {review.caution}")
     plan = _with_draws(plan, options.draws)
     check_ensemble_memory(plan, from_option=options.draws is not None,
                           remote=options.scheduler is not None)

@@ -79,6 +79,7 @@ def summary_dict(plan: Plan, results: PlanResults) -> dict[str, Any]:
             "title": details.title,
             "day0": details.day0.isoformat(),
             "horizon_days": int(details.horizon_days),
+            "review_by": plan.review_date.isoformat(),
             "population_persons": jsonable(plan.population),
             "bands": [b.label for b in plan.bands],
         },

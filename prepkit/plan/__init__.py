@@ -15,7 +15,7 @@ import datetime as dt
 from dataclasses import dataclass, field
 from typing import Literal
 
-from prepkit.plan.details import Details
+from prepkit.plan.details import REVIEW_AFTER_DAYS, Details
 from prepkit.plan.fit import FitSettings, FittedValues
 from prepkit.plan.ranges import LEVELS, Level, Range3
 from prepkit.plan.records import Observation, Source
@@ -385,6 +385,19 @@ class Plan:
             if item.name == name:
                 return item
         raise KeyError(name)
+
+    @property
+    def review_date(self) -> dt.date:
+        """The date by which these figures must be reviewed.
+
+        The planner's date, or by default
+        :data:`~prepkit.plan.details.REVIEW_AFTER_DAYS` after the last observed date (day 0
+        when nothing is observed).
+        """
+        if self.details.review_by is not None:
+            return self.details.review_by
+        start = max((o.date for o in self.observed), default=self.details.day0)
+        return start + dt.timedelta(days=REVIEW_AFTER_DAYS)
 
     def day_of(self, date: dt.date) -> int:
         """Model day number of a calendar date [days since day 0]."""

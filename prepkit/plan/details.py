@@ -6,7 +6,11 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import Literal
 
-__all__ = ["Details", "ObservedPeriod", "PageSize"]
+__all__ = ["REVIEW_AFTER_DAYS", "Details", "ObservedPeriod", "PageSize"]
+
+REVIEW_AFTER_DAYS = 28
+"""Default time from day 0, or from the last observed date, to the review date [days]: four
+weeks, a project rule (scenarios age quickly once an outbreak is under way)."""
 
 
 PageSize = Literal["A4", "Letter"]
@@ -39,6 +43,9 @@ class Details:
     observed_period : {"daily", "weekly"}
         Whether each observed row holds one day's figures or a week's
         totals ending on its date (census figures are on the date either way).
+    review_by : datetime.date or None
+        The date by which the figures must be checked again, as the planner
+        gives it; None for the default (:meth:`prepkit.plan.Plan.review_date`).
     """
 
     jurisdiction: str
@@ -50,3 +57,4 @@ class Details:
     seed: int
     page_size: PageSize
     observed_period: ObservedPeriod = "daily"
+    review_by: dt.date | None = None

@@ -43,6 +43,12 @@ POPULATION_FIELDS: tuple[Field, ...] = (
           sheet=PLAN, label="Random seed", unit="", type="integer",
           minimum=0, maximum=2**32 - 1, default=20_270_101,
           help="Any whole number; the same seed gives the same uncertainty draws."),
+    Field(name="details.review_by", target="details.review_by",
+          sheet=PLAN, label="Review by", unit="date", type="date",
+          help="The date by which these figures must be checked again with the health "
+               "authority; the pack prints it on the cover and every page, and prepkit warns "
+               "when a workbook is run after it. Blank = four weeks after the last observed "
+               "date, or after day 0 when the Observed sheet has no figures."),
     Field(name="details.page_size", target="details.page_size",
           sheet=PLAN, label="Paper size", unit="", type="choice",
           choices=PAGE_CHOICES, default="A4", help="Paper size of the printed pack."),

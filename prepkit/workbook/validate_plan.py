@@ -26,8 +26,10 @@ from prepkit.plan import Plan
 from prepkit.workbook.cells import Got, Key, TableRow
 from prepkit.workbook.schema import FIELDS_BY_NAME, TABLES
 from prepkit.workbook.sheets import MATRIX_SHEETS
+from prepkit.workbook.validate import problem
 
-__all__ = ["check_one_vaccine", "check_plan", "check_seeding", "check_transmission"]
+__all__ = ["check_one_vaccine", "check_plan", "check_review", "check_seeding",
+           "check_transmission"]
 
 
 def _label(name: str) -> str:
@@ -234,5 +236,15 @@ def check_plan(plan: Plan, *, items: Mapping[Key, Got], disease_rows: Mapping[st
     list of Problem
         Every problem found.
     """
-    return [*check_transmission(plan), *check_seeding(plan, disease_rows, items),
-            *check_one_vaccine(plan, scenario_rows)]
+    return [*check_review(plan, items), *check_transmission(plan),
+            *check_seeding(plan, disease_rows, items), *check_one_vaccine(plan, scenario_rows)]
+
+
+def check_review(plan: Plan, items: Mapping[Key, Got]) -> list[Problem]:
+    """A review date the planner gives lies after day 0."""
+    got = items.get(("details.review_by", "central"))
+    given = plan.details.review_by
+    if got is None or given is None or given > plan.details.day0:
+        return []
+    return [problem(got, f"a date after day 0 ({plan.details.day0.isoformat()}): the date by "
+                         "which these figures are checked again")]

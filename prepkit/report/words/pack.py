@@ -25,6 +25,7 @@ from prepkit.report.words.leader import (
 )
 from prepkit.report.words.limitations import limitations
 from prepkit.report.words.measures import measure_rows
+from prepkit.report.words.review import review_words
 from prepkit.report.words.uncertainty_text import ensemble_context
 from prepkit.report.words.views import scenario_views, with_observations
 from prepkit.scenarios.runs import PlanResults
@@ -50,15 +51,17 @@ def provenance_line(plan: Plan, *, version: str, generated: dt.datetime,
     Returns
     -------
     str
-        Jurisdiction, the date of the local figures (when fitted), input file
-        name and short SHA-256, version, run time (UTC) and seed.
+        Jurisdiction, the review date with "scenario, not forecast", the date
+        of the local figures (when fitted), input file name and short
+        SHA-256, version, run time (UTC) and seed.
     """
     name = plan.source.path.replace("\\", "/").rsplit("/", 1)[-1] or "workbook"
     digest = plan.source.sha256[:12] if plan.source.sha256 else "not recorded"
     stamp = generated.astimezone(dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
     fitted = f" · fitted to figures as of {as_of}" if as_of else ""
+    review = f" · review by {format_date(plan.review_date)}: scenario, not forecast"
     return (
-        f"{plan.details.jurisdiction}{fitted} · input {name} (SHA-256 {digest}) · "
+        f"{plan.details.jurisdiction}{review}{fitted} · input {name} (SHA-256 {digest}) · "
         f"prepkit {version} · run {stamp} · seed {plan.details.seed}"
     )
 
@@ -182,6 +185,7 @@ def build_context(
         "observed_flag": flag,
         "fit": fit_words,
         "as_of": as_of,
+        "review": review_words(plan, generated),
         "deaths_note": DEATHS_NOTE,
         "headline": headline,
         "headline_measures": headline_measures_text(headline) if headline else "",
