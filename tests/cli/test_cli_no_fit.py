@@ -14,7 +14,9 @@ CITY = Path(__file__).resolve().parents[2] / "sample_workbooks" / "vellmora_city
 
 
 def test_no_fit_skips_the_fit_and_says_why(tmp_path: Path,
-                                           capsys: pytest.CaptureFixture[str]) -> None:
+                                           capsys: pytest.CaptureFixture[str],
+                                           monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.delenv("CI", raising=False)  # CI leaves step messages out
     summary_path = tmp_path / "summary.json"
     code = main(["run", str(CITY), "--no-fit", "--summary-only", "--summary-json",
                  str(summary_path), "--draws", "0"])

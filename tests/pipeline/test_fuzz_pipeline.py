@@ -35,7 +35,7 @@ SEED = 5
 
 
 def _settings(out: Path, **changes: Any) -> fp.Settings:
-    values: dict[str, Any] = dict(seed=SEED, bases=BASES, ensemble_share=0.3,
+    values: dict[str, Any] = dict(seed=SEED, bases=BASES, ensemble_share=1.0,
                                   ensemble_draws=4, timeout_s=120.0, out=out)
     values.update(changes)
     return fp.Settings(**values)
