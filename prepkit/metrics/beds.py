@@ -11,12 +11,23 @@ the last axis (days); stocks are end-of-day values, one value per day.
   (non-surge) beds, and stay open.
 * Unmet bed-days = sum over days of ``max(0, demand - available)`` x 1 day
   (daily resolution); the largest shortfall is its daily maximum.
+* Strain: occupancy = (beds used by other patients + outbreak demand) /
+  staffed beds. A day is strained when occupancy is above
+  :data:`STRAIN_OCCUPANCY` (75%), that is when demand is above
+  ``available - staffed x (1 - 0.75)`` beds; occupancy above 100% is demand
+  above the available beds, the days short. Surge beds are not counted
+  (French et al. 2021 measured occupancy of the ICU beds a hospital staffs).
 
 References
 ----------
 Hick J.L., Barbera J.A., Kelen G.D. (2009). Refining surge capacity:
 conventional, contingency, and crisis capacity. Disaster Med. Public
 Health Prep. 3(Suppl 1):S59-S67 (surge beds as a separate tier).
+
+French G., Hulse M., Nguyen D., et al. (2021). Impact of hospital strain on
+excess deaths during the COVID-19 pandemic - United States, July 2020-July
+2021. MMWR 70(46):1613-1616 (ICU occupancy above 75% and above 100% were
+followed by excess deaths).
 """
 
 from __future__ import annotations
@@ -31,6 +42,10 @@ from prepkit.plan import Capacity
 
 BED_KINDS: tuple[str, ...] = ("ward", "icu")
 """Bed types, in the order of every per-type table."""
+
+STRAIN_OCCUPANCY = 0.75
+"""Occupancy of staffed beds above which a day counts as strained [fraction] (French et al.
+2021, MMWR 70(46):1613: ICU occupancy above 75% was followed by excess deaths two weeks later)."""
 
 
 def bed_supply(capacity: Capacity) -> dict[str, tuple[float, float]]:
@@ -57,6 +72,23 @@ def bed_supply(capacity: Capacity) -> dict[str, tuple[float, float]]:
             float(capacity.surge_icu_beds),
         ),
     }
+
+
+def strain_limits(capacity: Capacity) -> dict[str, float]:
+    """Outbreak demand above which occupancy passes :data:`STRAIN_OCCUPANCY` of staffed beds [beds].
+
+    ``available - staffed x (1 - STRAIN_OCCUPANCY)``, with available from
+    :func:`bed_supply`; negative when the beds used by other patients alone
+    fill more than that share (then every day is strained).
+
+    Returns
+    -------
+    dict
+        ``{"ward": limit, "icu": limit}`` [beds].
+    """
+    staffed = {"ward": float(capacity.ward_beds), "icu": float(capacity.icu_beds)}
+    return {kind: available - staffed[kind] * (1.0 - STRAIN_OCCUPANCY)
+            for kind, (available, _) in bed_supply(capacity).items()}
 
 
 def outbreak_demand(census: ArrayLike, capacity: Capacity) -> NDArray[np.float64]:

@@ -30,7 +30,13 @@ from prepkit.plan import Capacity
 
 @dataclass(frozen=True, kw_only=True)
 class BedMetrics:
-    """Demand against capacity for one bed type (ward or ICU)."""
+    """Demand against capacity for one bed type (ward or ICU).
+
+    ``days_over_capacity_days`` are the days demand is above the available
+    beds (occupancy above 100% of staffed beds); ``days_strained_days`` the
+    days occupancy is above 75% of them, that is demand above
+    ``strain_limit_beds`` (rules of :mod:`prepkit.metrics.beds`).
+    """
 
     peak_census_persons: float
     peak_demand_beds: float
@@ -39,6 +45,8 @@ class BedMetrics:
     surge_beds: float
     first_over_capacity_date: dt.date | None
     days_over_capacity_days: int
+    days_strained_days: int
+    strain_limit_beds: float
     unmet_bed_days: float
     largest_shortfall_beds: float
     surge_trigger_date: dt.date | None
@@ -47,6 +55,15 @@ class BedMetrics:
     days_over_capacity_with_surge_days: int
     unmet_bed_days_with_surge: float
     largest_shortfall_with_surge_beds: float
+
+    @property
+    def always_strained(self) -> bool:
+        """True when other patients alone fill 75% or more of the staffed beds.
+
+        Then any outbreak patient makes them more than 75% full, and the days
+        of strain say nothing the days with outbreak patients do not.
+        """
+        return self.strain_limit_beds <= 0.0
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -185,7 +202,7 @@ def ventilator_metrics(daily: pd.DataFrame, capacity: Capacity) -> VentilatorMet
 
 def bed_metrics(
     daily: pd.DataFrame, kind: str, available_beds: float, surge_beds: float,
-    trigger_share: float, days_to_open: float,
+    trigger_share: float, days_to_open: float, strain_limit: float,
 ) -> BedMetrics:
     """Demand-against-capacity metrics of one bed type.
 
@@ -199,6 +216,9 @@ def bed_metrics(
         Available (non-surge) and surge beds [beds].
     trigger_share, days_to_open : float
         Surge trigger [fraction] and opening delay [days].
+    strain_limit : float
+        Demand above which the day is strained (:func:`~prepkit.metrics.beds.strain_limits`)
+        [beds].
 
     Returns
     -------
@@ -226,6 +246,8 @@ def bed_metrics(
         surge_beds=float(surge_beds),
         first_over_capacity_date=first_exceedance_date(demand, available_beds),
         days_over_capacity_days=int(days_over_capacity(demand, available_beds)),
+        days_strained_days=int(days_over_capacity(demand, strain_limit)),
+        strain_limit_beds=float(strain_limit),
         unmet_bed_days=float(unmet_bed_days(demand, available_beds)),
         largest_shortfall_beds=float(largest_shortfall(demand, available_beds)),
         surge_trigger_date=trigger_date,

@@ -19,7 +19,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from prepkit.metrics.beds import bed_supply
+from prepkit.metrics.beds import bed_supply, strain_limits
 from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics, bed_metrics, ventilator_metrics
 from prepkit.metrics.peaks import peak
 from prepkit.plan import Capacity
@@ -115,6 +115,7 @@ def scenario_metrics(
         The metrics.
     """
     supply = bed_supply(capacity)
+    strain = strain_limits(capacity)
     inf_peak, inf_date = peak(daily["infections_per_day"])
     adm_peak, adm_date = peak(daily["admissions_per_day"])
     abs_peak, abs_date = peak(daily["absence_share"])
@@ -125,11 +126,11 @@ def scenario_metrics(
         symptomatic_attack_share=totals.symptomatic_cases_persons / population,
         ward=bed_metrics(
             daily, "ward", *supply["ward"],
-            capacity.surge_trigger_occupancy, capacity.surge_days_to_open,
+            capacity.surge_trigger_occupancy, capacity.surge_days_to_open, strain["ward"],
         ),
         icu=bed_metrics(
             daily, "icu", *supply["icu"],
-            capacity.surge_trigger_occupancy, capacity.surge_days_to_open,
+            capacity.surge_trigger_occupancy, capacity.surge_days_to_open, strain["icu"],
         ),
         peak_infections_per_day=inf_peak,
         peak_infections_date=inf_date,

@@ -56,6 +56,9 @@ SUMMARY = SheetColumns(
                "Staffed ward beds not needed by other patients, without surge beds."),
         column("Days ward beds short [days]", "ward.days_over_capacity_days", "days", DAYS,
                "Days on which ward demand is above the available ward beds."),
+        column("Days ward occupancy above 75% [days]", "ward.days_strained_days", "days",
+               DAYS, "Days on which other patients and outbreak patients fill more than 75% "
+               "of the staffed ward beds (surge beds not counted)."),
         column("Unmet ward bed-days [bed-days]", "ward.unmet_bed_days", "bed-days", WHOLE,
                "Ward demand above the available beds, added up over the days."),
         column("ICU peak demand [beds]", "icu.peak_demand_beds", "beds", WHOLE,
@@ -65,6 +68,9 @@ SUMMARY = SheetColumns(
                "Staffed ICU beds not needed by other patients, without surge beds."),
         column("Days ICU beds short [days]", "icu.days_over_capacity_days", "days", DAYS,
                "Days on which ICU demand is above the available ICU beds."),
+        column("Days ICU occupancy above 75% [days]", "icu.days_strained_days", "days",
+               DAYS, "Days on which other patients and outbreak patients fill more than 75% "
+               "of the staffed ICU beds (surge beds not counted)."),
         column("Unmet ICU bed-days [bed-days]", "icu.unmet_bed_days", "bed-days", WHOLE,
                "ICU demand above the available beds, added up over the days."),
         column("Hospital admissions [people]", "total.admissions_persons", "people", WHOLE,

@@ -171,6 +171,12 @@ METRIC_ROWS: tuple[MetricRow, ...] = (
             "days", DAYS, "The same with surge beds open."),
     _metric("Days ICU beds short with surge beds", "icu_days_over_capacity_with_surge_days",
             "days", DAYS, "The same with surge beds open."),
+    _metric("Days ward occupancy above 75%", "ward_days_strained_days", "days", DAYS,
+            "Days on which other patients and outbreak patients fill more than 75% of the "
+            "staffed ward beds (surge beds not counted)."),
+    _metric("Days ICU occupancy above 75%", "icu_days_strained_days", "days", DAYS,
+            "Days on which other patients and outbreak patients fill more than 75% of the "
+            "staffed ICU beds (surge beds not counted)."),
     _metric("Unmet ward bed-days", "ward_unmet_bed_days", "bed-days", WHOLE,
             "Ward demand above the available beds, added up over the days."),
     _metric("Unmet ICU bed-days", "icu_unmet_bed_days", "bed-days", WHOLE,

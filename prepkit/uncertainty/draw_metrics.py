@@ -12,7 +12,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.metrics.absence import absence, worker_count
-from prepkit.metrics.beds import bed_loads, bed_supply, outbreak_demand
+from prepkit.metrics.beds import (
+    bed_loads,
+    bed_supply,
+    days_over_capacity,
+    outbreak_demand,
+    strain_limits,
+)
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import ScenarioRun
 from prepkit.uncertainty.draws import FINAL_NAMES, DrawSeries
@@ -40,6 +46,7 @@ def _daily_loads(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]]
     capacity = plan.capacity
     n, days = draws.series.shape[1:]
     beds = bed_supply(capacity)
+    strain = strain_limits(capacity)
     out: dict[str, NDArray[Any]] = {"peak_absence": np.empty(n)}
     daily: dict[str, Any] = {
         "absence_share": np.empty((n, days), dtype=draws.series.dtype),
@@ -49,15 +56,16 @@ def _daily_loads(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]]
             daily[f"{kind}_{key}"] = np.empty((n, days), dtype=bool)
         for key in _LOADS:
             out[f"{kind}_{key}"] = np.empty(n, dtype=np.int64 if "days" in key else np.float64)
+        out[f"{kind}_strained"] = np.empty(n, dtype=np.int64)
     onsets = draws.get("worker_onsets_per_day")
     school = draws.get("school_closure_intensity_share")
     for start in range(0, n, SCALAR_CHUNK):
         rows = slice(start, min(n, start + SCALAR_CHUNK))
         for kind, (available, surge) in beds.items():
-            got = bed_loads(
-                outbreak_demand(draws.get(f"{kind}_census_persons")[rows], capacity),
-                available, surge, capacity.surge_trigger_occupancy, capacity.surge_days_to_open,
-            )
+            demand = outbreak_demand(draws.get(f"{kind}_census_persons")[rows], capacity)
+            got = bed_loads(demand, available, surge, capacity.surge_trigger_occupancy,
+                            capacity.surge_days_to_open)
+            out[f"{kind}_strained"][rows] = days_over_capacity(demand, strain[kind])
             for key in ("over", "over_surge"):
                 daily[f"{kind}_{key}"][rows] = got[key]
             for key in _LOADS:
@@ -87,6 +95,7 @@ def draw_scalars(
         scalars[f"peak_{kind}_census_persons"] = draws.peaks[:, k]
         scalars[f"{kind}_days_over_capacity_days"] = out[f"{kind}_days_over"]
         scalars[f"{kind}_days_over_capacity_with_surge_days"] = out[f"{kind}_days_over_surge"]
+        scalars[f"{kind}_days_strained_days"] = out[f"{kind}_strained"]
         scalars[f"{kind}_unmet_bed_days"] = out[f"{kind}_unmet"]
         scalars[f"{kind}_unmet_bed_days_with_surge"] = out[f"{kind}_unmet_surge"]
     scalars["total_unmet_bed_days"] = (
@@ -127,6 +136,8 @@ def run_values(run: ScenarioRun) -> dict[str, float]:
         "icu_days_over_capacity_days": m.icu.days_over_capacity_days,
         "ward_days_over_capacity_with_surge_days": m.ward.days_over_capacity_with_surge_days,
         "icu_days_over_capacity_with_surge_days": m.icu.days_over_capacity_with_surge_days,
+        "ward_days_strained_days": m.ward.days_strained_days,
+        "icu_days_strained_days": m.icu.days_strained_days,
         "ward_unmet_bed_days": m.ward.unmet_bed_days,
         "icu_unmet_bed_days": m.icu.unmet_bed_days,
         "total_unmet_bed_days": m.ward.unmet_bed_days + m.icu.unmet_bed_days,

@@ -26,6 +26,8 @@ SUMMARY_METRICS: tuple[str, ...] = (
     "icu_days_over_capacity_days",
     "ward_days_over_capacity_with_surge_days",
     "icu_days_over_capacity_with_surge_days",
+    "ward_days_strained_days",
+    "icu_days_strained_days",
     "ward_unmet_bed_days",
     "icu_unmet_bed_days",
     "total_unmet_bed_days",

@@ -55,7 +55,7 @@ from prepkit.report.words.leader import (
     measures_headline,
 )
 from prepkit.report.words.limitations import limitations
-from prepkit.report.words.views import ScenarioView, scenario_views
+from prepkit.report.words.views import ScenarioView, brief_cells, scenario_views
 from prepkit.scenarios.runs import run_plan
 from prepkit.workbook.reader import read_plan
 from prepkit.workbook.template import write_workbook
@@ -216,8 +216,11 @@ def test_leader_page_is_one_page_with_the_bottom_line_first(pack: Rendered) -> N
     for sentence in bottom_line(views):
         assert flat(sentence) in leader
         assert leader.index(flat(sentence)) > first
-    for view in views:
-        assert flat(f"{view.name}. {view.brief}") in leader
+    year = pack.plan.details.day0.year
+    for view in views:  # the leader table: name, ward and ICU beds, what the measures do
+        assert flat(view.name) in leader
+        for cell in brief_cells(view, year):
+            assert flat(cell) in leader
     headline = measures_headline(views)
     assert headline is not None
     assert flat(headline_measures_text(headline)) in leader

@@ -434,7 +434,7 @@ def test_no_text_or_chart_runs_into_the_margins(packs: list[Rendered]) -> None:
             for item in footer:
                 if not (x_min <= item.x0 and item.x1 <= x_max and item.y0 >= 0.0):
                     problems.append(f"{where}: footer text at {item} outside the page margins")
-    assert problems == []
+    assert problems == [], problems
 
 
 @pytest.mark.slow
@@ -453,4 +453,4 @@ def test_no_page_but_the_last_is_nearly_empty(packs: list[Rendered]) -> None:
             lines = len(_baselines(body)) + sum((i.y1 - i.y0) / line_pt for i in images)
             if lines < MIN_LINES:
                 problems.append(f"{pack.name} {pack.size} page {number}: {lines:.1f} lines")
-    assert problems == []
+    assert problems == [], problems

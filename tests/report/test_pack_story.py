@@ -134,7 +134,7 @@ def test_each_peak_prints_the_same_number_on_every_page(city: tuple[_Text, Path,
         leader = parsed.section("summary")
         ward = view.with_metrics.ward
         if ward.days_over_capacity_days:
-            assert f"demand peaks at {format_number(ward.peak_demand_beds)} " in leader
+            assert f"; peak {format_number(ward.peak_demand_beds)} " in leader
 
 
 def test_the_policy_is_said_where_the_two_kinds_of_figure_meet(

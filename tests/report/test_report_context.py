@@ -38,7 +38,7 @@ from prepkit.report.words.measures import measure_what, measure_when
 from prepkit.report.words.pack import PackFigures, build_context, provenance_line
 from prepkit.report.words.scenario_text import bed_sentence, measures_sentence, surge_sentence
 from prepkit.report.words.uncertainty_text import drivers_sentence
-from prepkit.report.words.views import scenario_views
+from prepkit.report.words.views import brief_cells, scenario_views
 from prepkit.scenarios.runs import run_plan
 
 D = dt.date
@@ -53,6 +53,8 @@ def bed(**changes: Any) -> BedMetrics:
         surge_beds=150.0,
         first_over_capacity_date=D(2027, 2, 10),
         days_over_capacity_days=43,
+        days_strained_days=50,
+        strain_limit_beds=80.0,
         unmet_bed_days=5309.0,
         largest_shortfall_beds=212.4,
         surge_trigger_date=D(2027, 2, 9),
@@ -285,9 +287,11 @@ def test_views_brief_and_bottom_line_agree_with_metrics(small_results: Any) -> N
     for view in views:
         ward = view.with_metrics.ward
         assert sum(p.days for p in view.ward_periods) == ward.days_over_capacity_days
+        ward_cell = brief_cells(view, plan.details.day0.year)[0]
         if ward.days_over_capacity_days:
-            assert f"Ward beds run short on {format_days(ward.days_over_capacity_days)}" \
-                in view.brief
+            assert ward_cell.startswith(f"{format_days(ward.days_over_capacity_days)} short from ")
+        else:
+            assert ward_cell.startswith("Never short; peak ")
     lines = bottom_line(views)
     assert 1 <= len(lines) <= 3
     short = [v for v in views if v.short_of_beds]

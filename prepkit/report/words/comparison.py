@@ -96,6 +96,10 @@ def _bed_rows(
     def cells(fn: Any) -> tuple[str, ...]:
         return tuple(text for pair in pairs for text in (fn(pair[0]), fn(pair[1])))
 
+    # days more than 75% full, unless other patients alone fill that much (then it is every day)
+    strained = [] if first.always_strained else [
+        TableRow(label="Days more than 75% full [days]",
+                 cells=cells(lambda b: f"{b.days_strained_days:,}"))]
     return [
         TableRow(label=head, group=True),
         TableRow(label="Peak demand [beds]",
@@ -103,6 +107,7 @@ def _bed_rows(
         TableRow(label="Date of peak", cells=cells(lambda b: format_table_date(b.peak_date, year))),
         TableRow(label="First day short",
                  cells=cells(lambda b: format_table_date(b.first_over_capacity_date, year))),
+        *strained,
         TableRow(label="Days short [days]",
                  cells=cells(lambda b: f"{b.days_over_capacity_days:,}")),
         TableRow(label="Days short with surge [days]",

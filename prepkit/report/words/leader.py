@@ -27,8 +27,7 @@ CAUTION_LINE = (
 
 #: What the death figures count, said on the leader page.
 DEATHS_NOTE = (
-    "The deaths in this pack are deaths among hospital patients, counted as if every patient "
-    "who needs a bed gets one: running short of beds does not change them here."
+    "Deaths here are among hospital patients, as if every patient who needs a bed gets one."
 )
 
 
@@ -126,9 +125,9 @@ def bottom_line(views: Sequence[ScenarioView]) -> tuple[str, ...]:
         if bed.days_over_capacity_days > 0:
             clauses.append(
                 f"{noun} beds run short on {format_days(bed.days_over_capacity_days)} from "
-                f"{format_date(bed.first_over_capacity_date)}, with demand peaking at "
-                f"{format_number(bed.peak_demand_beds, words=True)} beds against "
-                f"{format_number(bed.available_beds, words=True)} available"
+                f"{format_date(bed.first_over_capacity_date)} (peak "
+                f"{format_number(bed.peak_demand_beds, words=True)} beds, "
+                f"{format_number(bed.available_beds, words=True)} available)"
             )
     lead = "The hardest case is" if total > 1 else "In"
     second = f"{lead} {quoted(worst.name)}: " + "; ".join(clauses) + "."

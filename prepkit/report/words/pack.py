@@ -26,8 +26,14 @@ from prepkit.report.words.leader import (
 from prepkit.report.words.limitations import limitations
 from prepkit.report.words.measures import measure_rows
 from prepkit.report.words.review import review_words
+from prepkit.report.words.strain import (
+    baseline_strain_note,
+    brief_heads,
+    strain_tables,
+    with_strain,
+)
 from prepkit.report.words.uncertainty_text import ensemble_context
-from prepkit.report.words.views import scenario_views, with_observations
+from prepkit.report.words.views import brief_cells, scenario_views, with_observations
 from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.results import UncertaintyResults
 
@@ -163,7 +169,8 @@ def build_context(
         Template variables. Every value is plain text or a dataclass of
         plain text: the templates escape all of it.
     """
-    views = with_observations(plan, scenario_views(plan, results), uncertainty)
+    views = with_strain(with_observations(plan, scenario_views(plan, results), uncertainty),
+                        uncertainty)
     ensemble = ensemble_context(plan, views, uncertainty)
     d = plan.details
     title = d.title
@@ -191,6 +198,11 @@ def build_context(
         "headline_measures": headline_measures_text(headline) if headline else "",
         "certainty": certainty_sentences(plan, views, ensemble),
         "views": views,
+        "briefs": tuple((view.name, brief_cells(view, d.day0.year)) for view in views),
+        "brief_heads": brief_heads(views),
+        "strain_note": baseline_strain_note(plan, views),
+        "strain_tables": (strain_tables(views, uncertainty)
+                          if uncertainty is not None and ensemble is not None else ()),
         "comparison": comparison_tables(views, d.day0.year),
         "transmissibility": transmissibility_rows(plan, results),
         "measures": measure_rows(plan, views),

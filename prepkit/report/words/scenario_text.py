@@ -170,6 +170,21 @@ def peak_change(reduction_share: float | None, delay: int | None) -> str:
     return text
 
 
+def peak_change_short(reduction_share: float, delay: int | None) -> str:
+    """The measures' effect on the ward peak: ``Ward peak 74% lower, 7 days later``."""
+    if reduction_share >= 0.005:
+        text = f"Ward peak {format_percent(reduction_share)} lower"
+    elif reduction_share <= -0.005:
+        text = f"Ward peak {format_percent(-reduction_share)} higher"
+    else:
+        text = "Ward peak almost unchanged"
+    if delay is not None and delay > 0:
+        text += f", {format_days(delay)} later"
+    elif delay is not None and delay < 0:
+        text += f", {format_days(-delay)} earlier"
+    return text
+
+
 def measures_sentence(item: ScenarioResults) -> str:
     """What a scenario's measures change, compared with the same scenario without them.
 

@@ -8,15 +8,14 @@ from dataclasses import dataclass, replace
 
 import pandas as pd
 
+from prepkit.metrics.capacity import BedMetrics
 from prepkit.metrics.core import ScenarioMetrics
 from prepkit.plan import Plan
 from prepkit.report.observed import ObservedCheck, observed_checks
 from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
 from prepkit.report.words.formatting import (
-    BED_NOUNS,
     LEVEL_WORDS,
     Period,
-    beds_phrase,
     format_date,
     format_days,
     format_number,
@@ -27,7 +26,7 @@ from prepkit.report.words.scenario_text import (
     bed_sentence,
     measures_sentence,
     observed_sentence,
-    peak_change,
+    peak_change_short,
     surge_sentence,
     ventilator_sentence,
 )
@@ -85,6 +84,10 @@ class ScenarioView:
     fitted : bool
         True when the plan is fitted to its observed figures (the scenario
         runs at the fitted spread and severity, not at its levels).
+    strain : tuple of (str, str)
+        Per bed type (``"ward"``, ``"icu"``), the clause on its days of strain
+        for the leader brief (:func:`prepkit.report.words.strain.with_strain`);
+        empty when not filled.
     """
 
     number: int
@@ -97,6 +100,7 @@ class ScenarioView:
     measure_spans: tuple[MeasureSpan, ...] = ()
     observed: tuple[ObservedCheck, ...] = ()
     fitted: bool = False
+    strain: tuple[tuple[str, str], ...] = ()
 
     @property
     def name(self) -> str:
@@ -168,11 +172,6 @@ class ScenarioView:
     def measures_sentence(self) -> str:
         """:func:`measures_sentence` of the scenario."""
         return measures_sentence(self.item)
-
-    @property
-    def brief(self) -> str:
-        """:func:`scenario_brief` of the scenario."""
-        return scenario_brief(self)
 
     @property
     def observed_sentence(self) -> str:
@@ -276,48 +275,50 @@ def with_observations(
     return tuple(out)
 
 
-def scenario_brief(view: ScenarioView) -> str:
-    """Two short sentences on one scenario for the leader page.
+def _short_date(day: dt.date | None, year: int) -> str:
+    """``16 Feb`` in ``year``, ``3 Jan 2028`` in another year."""
+    return format_date(day, year=day is not None and day.year != year)
+
+
+def _bed_cell(bed: BedMetrics, year: int) -> str:
+    """A bed type's cell of the leader table: days short and from when, the peak demand."""
+    peak = f"peak {format_number(bed.peak_demand_beds, words=True)}"
+    if bed.days_over_capacity_days > 0:
+        return (f"{format_days(bed.days_over_capacity_days)} short from "
+                f"{_short_date(bed.first_over_capacity_date, year)}; {peak}")
+    return f"Never short; {peak}"
+
+
+def brief_cells(view: ScenarioView, year: int) -> tuple[str, ...]:
+    """One scenario's row of the leader table, central run with measures.
 
     Parameters
     ----------
     view : ScenarioView
-        The scenario.
+        The scenario, its strain clauses filled in
+        (:func:`prepkit.report.words.strain.with_strain`).
+    year : int
+        Year of the dates printed without one (the year of day 0).
 
     Returns
     -------
-    str
-        E.g. "Ward beds run short on 43 days from 9 Feb 2027; demand peaks
-        at 302 beds against 90 available. ICU beds run short on 59 days from
-        6 Feb 2027; demand peaks at 118 beds against 18 available. The
-        measures lower the ward peak by 60% and delay it by 7 days."
+    tuple of str
+        Ward beds, ICU beds, days more than 75% full of each bed type in
+        ``view.strain`` and what the measures do; e.g. ``("43 days short
+        from 9 Feb; peak 302", "59 days short from 6 Feb; peak 118", "70 (61
+        to 77); 80 without measures", "Ward peak 60% lower, 7 days later")``.
     """
     m = view.with_metrics
-    parts = []
-    for kind, bed in (("ward", m.ward), ("icu", m.icu)):
-        title, noun = BED_NOUNS[kind]  # type: ignore[index]
-        if bed.days_over_capacity_days > 0:
-            start = format_date(bed.first_over_capacity_date)
-            parts.append(
-                f"{title} beds run short on {format_days(bed.days_over_capacity_days)} from "
-                f"{start}; demand peaks at {format_number(bed.peak_demand_beds, words=True)} "
-                f"beds against {format_number(bed.available_beds, words=True)} available."
-            )
-    if not parts:
-        parts.append(
-            f"Demand stays within the available beds: peaks of "
-            f"{beds_phrase(m.ward.peak_demand_beds, 'ward')} and "
-            f"{beds_phrase(m.icu.peak_demand_beds, 'ICU')}."
-        )
-    if view.item.scenario.interventions:
-        change = peak_change(
-            view.item.effect.ward_peak_reduction_share, view.item.effect.ward_peak_delay_days
-        )
-        if view.item.effect.ward_peak_reduction_share is not None:
-            parts.append(f"The measures {change}.")
+    effect = view.item.effect
+    if not view.item.scenario.interventions:
+        measures = "No measures in this scenario"
+    elif effect.ward_peak_reduction_share is None:
+        measures = "No ward demand to lower"
     else:
-        parts.append("No measures in this scenario.")
-    return " ".join(parts)
+        measures = peak_change_short(effect.ward_peak_reduction_share,
+                                     effect.ward_peak_delay_days)
+    strain = tuple(text for _, text in view.strain)
+    return (_bed_cell(m.ward, year), _bed_cell(m.icu, year), *strain, measures)
 
 
 def with_ensembles(
