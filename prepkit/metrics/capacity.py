@@ -34,8 +34,9 @@ class BedMetrics:
 
     ``days_over_capacity_days`` are the days demand is above the available
     beds (occupancy above 100% of staffed beds); ``days_strained_days`` the
-    days occupancy is above 75% of them, that is demand above
-    ``strain_limit_beds`` (rules of :mod:`prepkit.metrics.beds`).
+    days occupancy is above 75% of them (rules of :mod:`prepkit.metrics.beds`);
+    ``strain_headroom_beds`` the outbreak patients that fit before it is
+    (0 when other patients alone fill 75% or more) [beds].
     """
 
     peak_census_persons: float
@@ -46,7 +47,7 @@ class BedMetrics:
     first_over_capacity_date: dt.date | None
     days_over_capacity_days: int
     days_strained_days: int
-    strain_limit_beds: float
+    strain_headroom_beds: float
     unmet_bed_days: float
     largest_shortfall_beds: float
     surge_trigger_date: dt.date | None
@@ -63,7 +64,7 @@ class BedMetrics:
         Then any outbreak patient makes them more than 75% full, and the days
         of strain say nothing the days with outbreak patients do not.
         """
-        return self.strain_limit_beds <= 0.0
+        return self.strain_headroom_beds <= 0.0
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -247,7 +248,7 @@ def bed_metrics(
         first_over_capacity_date=first_exceedance_date(demand, available_beds),
         days_over_capacity_days=int(days_over_capacity(demand, available_beds)),
         days_strained_days=int(days_over_capacity(demand, strain_limit)),
-        strain_limit_beds=float(strain_limit),
+        strain_headroom_beds=max(0.0, float(strain_limit)),
         unmet_bed_days=float(unmet_bed_days(demand, available_beds)),
         largest_shortfall_beds=float(largest_shortfall(demand, available_beds)),
         surge_trigger_date=trigger_date,

@@ -32,15 +32,20 @@ from prepkit.report.words.chart_words_uncertainty import (
     peak_dates_words,
     tornado_words,
 )
-from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble
+from prepkit.report.words.ensemble_format import (
+    band_columns,
+    inner_band_columns,
+    scenario_ensemble,
+)
 from prepkit.report.words.formatting import as_date, format_number
 from prepkit.report.words.views import ScenarioView, with_ensembles
-from prepkit.uncertainty.results import UncertaintyResults
+from prepkit.uncertainty.results import FAN_QUANTILES, UncertaintyResults
 from prepkit.uncertainty.run import EnsembleResult
 
 __all__ = [
     "BAR_DAYS",
     "BAND_FILL",
+    "INNER_FILL",
     "TORNADO_TOP",
     "band_chart",
     "ensemble_of",
@@ -51,6 +56,10 @@ __all__ = [
 ]
 
 BAND_FILL = "#A6D2F0"
+"""Outer band of the fan charts (9 in 10 futures)."""
+
+INNER_FILL = "#5DA8DC"
+"""Inner band of the fan charts (the middle half of the futures), darker than the outer."""
 
 
 def ensemble_of(uncertainty: UncertaintyResults, name: str) -> EnsembleResult | None:
@@ -81,12 +90,15 @@ def band_chart(
     Returns
     -------
     Chart
-        Median line and low-to-high percentile band of the draws (with
-        measures), against the available beds.
+        A fan: the median line, the middle half of the draws (25th to 75th
+        percentile, when reported) inside the low-to-high percentile band
+        (with measures), against the available beds.
     """
     q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     low_pct = round(100 * min(uncertainty.quantiles))
     high_pct = round(100 * max(uncertainty.quantiles))
+    inner = inner_band_columns(uncertainty.quantiles)
+    inner_pct = tuple(round(100 * q) for q in FAN_QUANTILES)
     shown = with_ensembles(views, uncertainty)
 
     def draw(fig: Figure) -> None:
@@ -101,6 +113,13 @@ def band_chart(
                     color=BAND_FILL, alpha=0.8, linewidth=0,
                     label=f"{low_pct}th to {high_pct}th percentile",
                 )
+                if inner is not None:
+                    ax.fill_between(
+                        x, daily[f"{kind}_demand_beds_{inner[0]}"],
+                        daily[f"{kind}_demand_beds_{inner[1]}"],
+                        color=INNER_FILL, alpha=0.75, linewidth=0,
+                        label=f"{inner_pct[0]}th to {inner_pct[1]}th percentile",
+                    )
                 plot_series(ax, x, daily[f"{kind}_demand_beds_{q_mid}"].to_numpy(), 0,
                              "Median", linewidth=1.8, zorder=3)
                 ax.plot(x, daily[f"{kind}_available_beds"].to_numpy(), color=CSS_COLORS["ink"],
@@ -113,7 +132,7 @@ def band_chart(
                 ax.tick_params(labelsize=7.5)
             axes[row, 0].set_ylabel("Beds", fontsize=8)
         handles, labels = axes[0, 0].get_legend_handles_labels()
-        fig.legend(handles, labels, loc="outside lower center", ncols=3, fontsize=8.5)
+        fig.legend(handles, labels, loc="outside lower center", ncols=len(labels), fontsize=8)
 
     width, _ = figure_size(page_size)
     height = min(8.6, 0.8 + 1.75 * len(shown))

@@ -12,8 +12,12 @@ from prepkit.scenarios.runs import ByScenario
 
 Variant = Literal["with", "without"]
 
-DEFAULT_QUANTILES: tuple[float, ...] = (0.05, 0.5, 0.95)
-"""Quantiles reported by default (the median is always added)."""
+DEFAULT_QUANTILES: tuple[float, ...] = (0.05, 0.25, 0.5, 0.75, 0.95)
+"""Quantiles reported by default (the median is always added): the outer pair bounds the ranges
+the pack quotes (9 in 10 futures), the inner pair the middle half drawn in the fan charts."""
+
+FAN_QUANTILES: tuple[float, float] = (0.25, 0.75)
+"""Inner band of the fan charts, when reported: the middle half of the futures [fraction]."""
 
 SUMMARY_METRICS: tuple[str, ...] = (
     "peak_ward_demand_beds",
@@ -73,7 +77,7 @@ class EnsembleResult:
     """The uncertainty ensemble of one scenario variant.
 
     All tables use column names with units. Quantile columns end in
-    ``_qNN`` (``q05``, ``q50``, ``q95`` by default); the median ``q50`` is
+    ``_qNN`` (``q05``, ``q25``, ``q50``, ``q75``, ``q95`` by default); the median ``q50`` is
     always there.
 
     Attributes

@@ -41,7 +41,7 @@ def test_the_single_run_reports_both_thresholds() -> None:
     available, surge = bed_supply(capacity)["ward"]
     bed = bed_metrics(daily, "ward", available, surge, 0.8, 3.0, strain_limits(capacity)["ward"])
     assert (bed.days_strained_days, bed.days_over_capacity_days) == (5, 1)
-    assert bed.strain_limit_beds == 15.0
+    assert bed.strain_headroom_beds == 15.0
 
 
 def test_full_by_other_patients_alone_is_strained_every_day() -> None:

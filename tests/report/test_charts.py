@@ -315,3 +315,36 @@ def test_ensemble_window_holds_every_future_peak_and_the_busy_high_band(
             widened |= busy + tail > base[1]
     # The sample's late futures do reach past the scenario runs' window, so the check bites.
     assert widened and end > base[1]
+
+
+# ---- Fans ---------------------------------------------------------------------------------------
+
+def test_the_demand_fans_nest_the_middle_half_inside_nine_in_ten(
+    setup: Any, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # A fan chart draws the median inside the 25th-75th percentile band inside the 5th-95th
+    # (quantiles nest by definition: common practice, no source); the caption says how to read it.
+    plan, results, views = setup
+    ensemble = run_uncertainty(plan, results, draws=40)
+    figures = _capture_figures(monkeypatch)
+    drawn = charts.draw_uncertainty_charts(plan, views, ensemble, focus=views[0].name)
+    bands = next(c for c in drawn if c.name == "uncertainty-bands")
+    assert "middle half of the futures (25th to 75th percentile)" in bands.caption
+    assert "9 in 10 (5th to 95th percentile)" in bands.caption
+    result = scenario_ensemble(ensemble, views[0].name)
+    assert result is not None
+    daily = result.with_interventions.daily
+    for kind in ("ward", "icu"):
+        cols = [daily[f"{kind}_demand_beds_{q}"].to_numpy() for q in
+                ("q05", "q25", "q50", "q75", "q95")]
+        for lower, upper in zip(cols, cols[1:], strict=False):
+            assert np.all(lower <= upper + 1e-9)
+        assert np.any(cols[1] > cols[0] + 1e-6) and np.any(cols[4] > cols[3] + 1e-6)
+    fig = next(f for f in figures if any(ax.get_legend_handles_labels()[1]
+                                          == ["5th to 95th percentile", "25th to 75th percentile",
+                                              "Median", "Available beds"]
+                                          for ax in f.axes))
+    first = fig.axes[0]
+    outer, inner = (c for c in first.collections if c.get_label().endswith("percentile"))
+    # the inner band's vertices lie within the outer band's vertical extent
+    assert inner.get_paths()[0].vertices[:, 1].max() <= outer.get_paths()[0].vertices[:, 1].max()

@@ -54,7 +54,7 @@ def bed(**changes: Any) -> BedMetrics:
         first_over_capacity_date=D(2027, 2, 10),
         days_over_capacity_days=43,
         days_strained_days=50,
-        strain_limit_beds=80.0,
+        strain_headroom_beds=80.0,
         unmet_bed_days=5309.0,
         largest_shortfall_beds=212.4,
         surge_trigger_date=D(2027, 2, 9),

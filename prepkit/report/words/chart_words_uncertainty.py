@@ -10,6 +10,7 @@ import pandas as pd
 from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.ensemble_format import (
     band_columns,
+    inner_band_columns,
     spread_cells,
     summary_row,
 )
@@ -45,8 +46,8 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) 
     q_low, q_mid, q_high = band_columns(uncertainty.quantiles)
     parts = [
         f"Ward and ICU demand with measures: the middle line is the median of "
-        f"{int(uncertainty.draws):,} plausible futures, the band runs from the {low_pct}th to "
-        f"the {high_pct}th percentile."
+        f"{int(uncertainty.draws):,} plausible futures, the outer band runs from the "
+        f"{low_pct}th to the {high_pct}th percentile."
     ]
     for view, result in with_ensembles(views, uncertainty):
         texts = []
@@ -65,9 +66,16 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) 
         title="Bed demand across plausible futures",
         caption=(
             f"Ward (left) and ICU (right) demand with measures across "
-            f"{int(uncertainty.draws):,} plausible futures per scenario: median line and the "
-            f"band from the {low_pct}th to the {high_pct}th percentile. Scales differ between "
-            "scenarios."
+            f"{int(uncertainty.draws):,} plausible futures per scenario. How to read it: the "
+            "line is the median future; "
+            + ("the dark band holds the middle half of the futures (25th to 75th percentile) "
+               "and the light band " if inner_band_columns(uncertainty.quantiles) else
+               "the band ")
+            + f"{round(10 * (max(uncertainty.quantiles) - min(uncertainty.quantiles)))} in 10 "
+            f"({low_pct}th to {high_pct}th percentile). On a day the black line of available "
+            "beds lies below the median, beds run short in more than half of the futures; below "
+            f"the top of the band, in more than {100 - high_pct} in 100. A wide band means the "
+            "figure depends strongly on the workbook's ranges. Scales differ between scenarios."
         ),
         alt=alt,
     )

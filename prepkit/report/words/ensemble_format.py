@@ -9,7 +9,12 @@ from typing import Any
 import pandas as pd
 
 from prepkit.report.words.formatting import Period, format_number, periods_over
-from prepkit.uncertainty.results import ScenarioUncertainty, UncertaintyResults, quantile_label
+from prepkit.uncertainty.results import (
+    FAN_QUANTILES,
+    ScenarioUncertainty,
+    UncertaintyResults,
+    quantile_label,
+)
 from prepkit.uncertainty.run import EnsembleResult
 
 
@@ -94,6 +99,14 @@ def summary_row(result: EnsembleResult, quantity: str) -> pd.Series:
     """One quantity of an ensemble's ``summary``: its quantiles, by column suffix."""
     row: Any = result.summary.loc[quantity]
     return row
+
+
+def inner_band_columns(quantiles: Sequence[float]) -> tuple[str, str] | None:
+    """Suffixes of the fan charts' inner band, ``("q25", "q75")``, or None when not reported."""
+    if not all(q in quantiles for q in FAN_QUANTILES):
+        return None
+    low, high = FAN_QUANTILES
+    return quantile_label(low), quantile_label(high)
 
 
 def band_columns(quantiles: Sequence[float]) -> tuple[str, str, str]:
