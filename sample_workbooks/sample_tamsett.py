@@ -93,6 +93,8 @@ def tamsett_hollow_plan() -> Plan:
                         rng3(7.5, 9.5, 12.5)),
         icu_stay_days=(rng3(6.5, 8.0, 10.0), rng3(7.5, 9.5, 12.0), rng3(9.0, 11.5, 14.5),
                        rng3(10.5, 13.0, 16.0)),
+        ward_no_bed_extra_fatality=rng3(0.03, 0.06, 0.12),
+        icu_no_bed_extra_fatality=rng3(0.20, 0.35, 0.55),
     )
     capacity = Capacity(
         ward_beds=24,
@@ -183,6 +185,8 @@ def tamsett_hollow_notes(plan: Plan) -> dict[str, str]:
         "disease.infectious_period_days": INVENTED,
         "disease.initial_infections": INVENTED,
         "disease.daily_importations": "Invented; commuters to and from Vellmora.",
+        "severity.ward_no_bed_extra_fatality": INVENTED,
+        "severity.icu_no_bed_extra_fatality": INVENTED,
         "capacity.ward_beds": "Invented: the town's community hospital.",
         "capacity.icu_beds": INVENTED,
         "capacity.ward_baseline_occupancy": INVENTED,

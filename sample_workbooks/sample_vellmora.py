@@ -177,6 +177,8 @@ def vellmora_plan() -> Plan:
         admission_delay_stages=1,
         ward_stages=2,
         icu_stages=2,
+        ward_no_bed_extra_fatality=rng3(0.02, 0.05, 0.10),
+        icu_no_bed_extra_fatality=rng3(0.15, 0.30, 0.50),
     )
     capacity = Capacity(
         ward_beds=600,
@@ -337,6 +339,10 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "disease.daily_importations": "Invented; travel through the regional airport and rail.",
         "severity.ward_stages": INVENTED,
         "severity.icu_stages": INVENTED,
+        "severity.ward_no_bed_extra_fatality": "Invented range; replace with your health "
+                                               "authority's figure.",
+        "severity.icu_no_bed_extra_fatality": "Invented range; replace with your health "
+                                              "authority's figure.",
         "capacity.ward_beds": "Invented: the three acute hospitals serving the city.",
         "capacity.icu_beds": INVENTED,
         "capacity.ventilators": INVENTED,

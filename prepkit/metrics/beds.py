@@ -11,6 +11,17 @@ the last axis (days); stocks are end-of-day values, one value per day.
   (non-surge) beds, and stay open.
 * Unmet bed-days = sum over days of ``max(0, demand - available)`` x 1 day
   (daily resolution); the largest shortfall is its daily maximum.
+* Patients without a bed: the patients of a bed type (ward-only or ICU
+  admissions these hospitals receive) times the share of the bed-days they
+  need that are unmet, ``unmet bed-days / needed bed-days`` (0 when none are
+  needed). Each unmet bed-day is a day of some patient's stay spent without
+  a bed, so the share of bed-days is the share of patients (Little 1961:
+  bed-days = patients x mean stay). With no beds every patient goes
+  without; with beds to spare none does.
+* Additional deaths when beds run short = patients without a ward bed x the
+  extra chance of death without one + the same for ICU (the Severity
+  sheet's inputs). Deaths in hospital care are the model's, as if every
+  patient had a bed; the additional deaths come on top.
 * Strain: occupancy = (beds used by other patients + outbreak demand) /
   staffed beds. A day is strained when occupancy is above
   :data:`STRAIN_OCCUPANCY` (75%), that is when demand is above
@@ -23,6 +34,9 @@ References
 Hick J.L., Barbera J.A., Kelen G.D. (2009). Refining surge capacity:
 conventional, contingency, and crisis capacity. Disaster Med. Public
 Health Prep. 3(Suppl 1):S59-S67 (surge beds as a separate tier).
+
+Little J.D.C. (1961). A proof for the queuing formula L = lambda W.
+Operations Research 9:383-387.
 
 French G., Hulse M., Nguyen D., et al. (2021). Impact of hospital strain on
 excess deaths during the COVID-19 pandemic - United States, July 2020-July
@@ -38,7 +52,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from prepkit.plan import Capacity
+from prepkit.plan import Capacity, Severity
 
 BED_KINDS: tuple[str, ...] = ("ward", "icu")
 """Bed types, in the order of every per-type table."""
@@ -89,6 +103,68 @@ def strain_limits(capacity: Capacity) -> dict[str, float]:
     staffed = {"ward": float(capacity.ward_beds), "icu": float(capacity.icu_beds)}
     return {kind: available - staffed[kind] * (1.0 - STRAIN_OCCUPANCY)
             for kind, (available, _) in bed_supply(capacity).items()}
+
+
+def bed_patients(admissions: ArrayLike, icu_admissions: ArrayLike,
+                 capacity: Capacity) -> dict[str, Any]:
+    """Patients these hospitals receive who need each bed type [persons] (per row of an array).
+
+    Ward: admissions that do not go to ICU; ICU: ICU admissions; both times
+    the catchment share. ``admissions`` and ``icu_admissions`` are the
+    residents' totals [persons].
+    """
+    total = np.asarray(admissions, dtype=np.float64)
+    icu = np.asarray(icu_admissions, dtype=np.float64)
+    share = capacity.catchment_share
+    return {"ward": (total - icu) * share, "icu": icu * share}
+
+
+def unserved_patients(unmet: ArrayLike, needed: ArrayLike, patients: ArrayLike) -> Any:
+    """Patients who need a bed and do not get one [persons] (per row of an array).
+
+    Parameters
+    ----------
+    unmet : float or array
+        Unmet bed-days [bed-days].
+    needed : float or array
+        Bed-days needed: daily demand added up over the days [bed-days].
+    patients : float or array
+        Patients who need this bed type (:func:`bed_patients`) [persons].
+
+    Returns
+    -------
+    float or ndarray
+        ``patients x unmet / needed``; 0 where no bed-days are needed.
+    """
+    gap = np.asarray(unmet, dtype=np.float64)
+    need = np.asarray(needed, dtype=np.float64)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = np.where(need > 0.0, gap / np.where(need > 0.0, need, 1.0), 0.0)
+    return np.asarray(patients, dtype=np.float64) * share
+
+
+def extra_fatality_key(kind: str) -> str:
+    """Severity attribute and ensemble key of the extra chance of death without a ``kind`` bed.
+
+    E.g. ``"icu_no_bed_extra_fatality"``.
+    """
+    return f"{kind}_no_bed_extra_fatality"
+
+
+def no_bed_extra_fatality(severity: Severity) -> dict[str, float]:
+    """The Central added chance of death without a bed, by bed type [fraction] (the single run)."""
+    return {kind: getattr(severity, extra_fatality_key(kind)).central for kind in BED_KINDS}
+
+
+def shortage_deaths(unserved: dict[str, Any], extra_fatality: dict[str, Any]) -> Any:
+    """Additional deaths when beds run short [persons]: unserved x extra chance, ward plus ICU.
+
+    ``unserved`` and ``extra_fatality`` are keyed by bed type (``"ward"``,
+    ``"icu"``): patients without a bed [persons] and the added chance of
+    death without one [fraction], floats or one value per draw.
+    """
+    return sum(np.asarray(unserved[k], dtype=np.float64) * np.asarray(extra_fatality[k])
+               for k in BED_KINDS)
 
 
 def outbreak_demand(census: ArrayLike, capacity: Capacity) -> NDArray[np.float64]:

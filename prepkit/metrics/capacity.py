@@ -23,6 +23,7 @@ from prepkit.metrics.beds import (
     surge_opening,
     unmet_bed_days,
     unmet_beds,
+    unserved_patients,
 )
 from prepkit.metrics.peaks import date_of_day, peak
 from prepkit.plan import Capacity
@@ -36,7 +37,9 @@ class BedMetrics:
     beds (occupancy above 100% of staffed beds); ``days_strained_days`` the
     days occupancy is above 75% of them (rules of :mod:`prepkit.metrics.beds`);
     ``strain_headroom_beds`` the outbreak patients that fit before it is
-    (0 when other patients alone fill 75% or more) [beds].
+    (0 when other patients alone fill 75% or more) [beds]. The unserved
+    patients are those who need a bed of this type and do not get one,
+    without and with surge beds [persons].
     """
 
     peak_census_persons: float
@@ -56,6 +59,8 @@ class BedMetrics:
     days_over_capacity_with_surge_days: int
     unmet_bed_days_with_surge: float
     largest_shortfall_with_surge_beds: float
+    unserved_patients_persons: float
+    unserved_patients_with_surge_persons: float
 
     @property
     def always_strained(self) -> bool:
@@ -203,7 +208,7 @@ def ventilator_metrics(daily: pd.DataFrame, capacity: Capacity) -> VentilatorMet
 
 def bed_metrics(
     daily: pd.DataFrame, kind: str, available_beds: float, surge_beds: float,
-    trigger_share: float, days_to_open: float, strain_limit: float,
+    trigger_share: float, days_to_open: float, strain_limit: float, patients: float,
 ) -> BedMetrics:
     """Demand-against-capacity metrics of one bed type.
 
@@ -220,6 +225,9 @@ def bed_metrics(
     strain_limit : float
         Demand above which the day is strained (:func:`~prepkit.metrics.beds.strain_limits`)
         [beds].
+    patients : float
+        Patients these hospitals receive who need this bed type
+        (:func:`~prepkit.metrics.beds.bed_patients`) [persons].
 
     Returns
     -------
@@ -239,6 +247,9 @@ def bed_metrics(
     with_surge, trigger_date, open_date = surge_schedule(
         demand, available_beds, surge_beds, trigger_share, days_to_open
     )
+    needed = float(demand.sum())
+    unmet = float(unmet_bed_days(demand, available_beds))
+    unmet_surge = float(unmet_bed_days(demand, with_surge))
     return BedMetrics(
         peak_census_persons=float(census.max()) if not census.empty else 0.0,
         peak_demand_beds=peak_demand,
@@ -249,12 +260,15 @@ def bed_metrics(
         days_over_capacity_days=int(days_over_capacity(demand, available_beds)),
         days_strained_days=int(days_over_capacity(demand, strain_limit)),
         strain_headroom_beds=max(0.0, float(strain_limit)),
-        unmet_bed_days=float(unmet_bed_days(demand, available_beds)),
+        unmet_bed_days=unmet,
         largest_shortfall_beds=float(largest_shortfall(demand, available_beds)),
         surge_trigger_date=trigger_date,
         surge_open_date=open_date,
         first_over_capacity_with_surge_date=first_exceedance_date(demand, with_surge),
         days_over_capacity_with_surge_days=int(days_over_capacity(demand, with_surge)),
-        unmet_bed_days_with_surge=float(unmet_bed_days(demand, with_surge)),
+        unmet_bed_days_with_surge=unmet_surge,
         largest_shortfall_with_surge_beds=float(largest_shortfall(demand, with_surge)),
+        unserved_patients_persons=float(unserved_patients(unmet, needed, patients)),
+        unserved_patients_with_surge_persons=float(unserved_patients(unmet_surge, needed,
+                                                                      patients)),
     )

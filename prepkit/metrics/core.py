@@ -19,7 +19,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from prepkit.metrics.beds import bed_supply, strain_limits
+from prepkit.metrics.beds import bed_patients, bed_supply, shortage_deaths, strain_limits
 from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics, bed_metrics, ventilator_metrics
 from prepkit.metrics.peaks import peak
 from prepkit.plan import Capacity
@@ -44,7 +44,13 @@ class BurdenTotals:
 
 @dataclass(frozen=True, kw_only=True)
 class ScenarioMetrics:
-    """Metrics of one scenario variant."""
+    """Metrics of one scenario variant.
+
+    ``total.hospital_deaths_persons`` are the deaths in hospital care, as if
+    every patient had a bed; ``shortage_deaths_persons`` the additional deaths
+    when beds run short (``_with_surge``: once surge beds are open), rule of
+    :func:`prepkit.metrics.beds.shortage_deaths`.
+    """
 
     total: BurdenTotals
     by_band: Mapping[str, BurdenTotals]
@@ -59,6 +65,8 @@ class ScenarioMetrics:
     peak_absence_share: float
     peak_absence_date: dt.date | None
     ventilators: VentilatorMetrics
+    shortage_deaths_persons: float
+    shortage_deaths_with_surge_persons: float
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -81,6 +89,7 @@ class InterventionEffect:
     averted_admissions_persons: float
     averted_icu_admissions_persons: float
     averted_hospital_deaths_persons: float
+    averted_shortage_deaths_persons: float
     averted_ward_unmet_bed_days: float
     averted_icu_unmet_bed_days: float
     averted_ward_unmet_bed_days_with_surge: float
@@ -93,6 +102,7 @@ def scenario_metrics(
     totals_by_band: Mapping[str, BurdenTotals],
     population: float,
     capacity: Capacity,
+    extra_fatality: Mapping[str, float],
 ) -> ScenarioMetrics:
     """All metrics of one scenario variant.
 
@@ -108,6 +118,9 @@ def scenario_metrics(
         Total population [persons].
     capacity : Capacity
         Hospital capacity.
+    extra_fatality : mapping of str to float
+        Added chance of death without a bed, by bed type (``"ward"``,
+        ``"icu"``) [fraction].
 
     Returns
     -------
@@ -116,6 +129,14 @@ def scenario_metrics(
     """
     supply = bed_supply(capacity)
     strain = strain_limits(capacity)
+    patients = bed_patients(totals.admissions_persons, totals.icu_admissions_persons, capacity)
+    ward = bed_metrics(daily, "ward", *supply["ward"], capacity.surge_trigger_occupancy,
+                       capacity.surge_days_to_open, strain["ward"], float(patients["ward"]))
+    icu = bed_metrics(daily, "icu", *supply["icu"], capacity.surge_trigger_occupancy,
+                      capacity.surge_days_to_open, strain["icu"], float(patients["icu"]))
+    unserved = {"ward": ward.unserved_patients_persons, "icu": icu.unserved_patients_persons}
+    unserved_surge = {"ward": ward.unserved_patients_with_surge_persons,
+                      "icu": icu.unserved_patients_with_surge_persons}
     inf_peak, inf_date = peak(daily["infections_per_day"])
     adm_peak, adm_date = peak(daily["admissions_per_day"])
     abs_peak, abs_date = peak(daily["absence_share"])
@@ -124,14 +145,8 @@ def scenario_metrics(
         by_band=dict(totals_by_band),
         infection_attack_share=totals.infections_persons / population,
         symptomatic_attack_share=totals.symptomatic_cases_persons / population,
-        ward=bed_metrics(
-            daily, "ward", *supply["ward"],
-            capacity.surge_trigger_occupancy, capacity.surge_days_to_open, strain["ward"],
-        ),
-        icu=bed_metrics(
-            daily, "icu", *supply["icu"],
-            capacity.surge_trigger_occupancy, capacity.surge_days_to_open, strain["icu"],
-        ),
+        ward=ward,
+        icu=icu,
         peak_infections_per_day=inf_peak,
         peak_infections_date=inf_date,
         peak_admissions_per_day=adm_peak,
@@ -139,6 +154,9 @@ def scenario_metrics(
         peak_absence_share=abs_peak,
         peak_absence_date=abs_date,
         ventilators=ventilator_metrics(daily, capacity),
+        shortage_deaths_persons=float(shortage_deaths(unserved, dict(extra_fatality))),
+        shortage_deaths_with_surge_persons=float(shortage_deaths(unserved_surge,
+                                                                 dict(extra_fatality))),
     )
 
 
@@ -183,6 +201,8 @@ def intervention_effect(with_: ScenarioMetrics, without: ScenarioMetrics) -> Int
         averted_admissions_persons=b.admissions_persons - a.admissions_persons,
         averted_icu_admissions_persons=b.icu_admissions_persons - a.icu_admissions_persons,
         averted_hospital_deaths_persons=b.hospital_deaths_persons - a.hospital_deaths_persons,
+        averted_shortage_deaths_persons=(without.shortage_deaths_persons
+                                         - with_.shortage_deaths_persons),
         averted_ward_unmet_bed_days=without.ward.unmet_bed_days - with_.ward.unmet_bed_days,
         averted_icu_unmet_bed_days=without.icu.unmet_bed_days - with_.icu.unmet_bed_days,
         averted_ward_unmet_bed_days_with_surge=without.ward.unmet_bed_days_with_surge

@@ -23,6 +23,7 @@ from prepkit.plan.resources import Capacity, Workforce
 
 __all__ = [
     "LEVELS",
+    "NO_BED_EXTRA_FATALITY",
     "SETTINGS",
     "AgeBand",
     "Capacity",
@@ -184,6 +185,12 @@ class Disease:
         return "growth_rate"
 
 
+NO_BED_EXTRA_FATALITY: dict[str, float] = {"ward": 0.05, "icu": 0.25}
+"""Default added chance of death of a patient without a ward or ICU bed [fraction]: typical
+values for planning, to be replaced with the health authority's figures (the workbook's
+defaults)."""
+
+
 @dataclass(frozen=True, kw_only=True)
 class Severity:
     """Hospital pathway by band.
@@ -206,6 +213,9 @@ class Severity:
         Mean ICU length of stay [days].
     admission_delay_stages, ward_stages, icu_stages : int
         Erlang stage counts of the delay and the stays.
+    ward_no_bed_extra_fatality, icu_no_bed_extra_fatality : Range3
+        Added chance of death of a patient who needs a ward (ICU) bed and
+        does not get one, over the usual deaths of such patients [fraction].
     """
 
     admitted_share: tuple[Range3, ...]
@@ -218,6 +228,8 @@ class Severity:
     admission_delay_stages: int = 1
     ward_stages: int = 2
     icu_stages: int = 2
+    ward_no_bed_extra_fatality: Range3 = Range3.point(NO_BED_EXTRA_FATALITY["ward"])
+    icu_no_bed_extra_fatality: Range3 = Range3.point(NO_BED_EXTRA_FATALITY["icu"])
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -44,6 +44,19 @@ __all__ = [
 
 _SCENARIO, _NUMBER, _VARIANT = KEYS
 
+DEATHS = (
+    column("Deaths in hospital care [people]", "total.hospital_deaths_persons",
+           "people", WHOLE, "Deaths in hospital care (ward and ICU) over the period, as if "
+           "every patient had a bed.", 12),
+    column("Additional deaths when beds run short [people]", "shortage_deaths_persons",
+           "people", WHOLE, "Patients who need a ward or ICU bed and do not get one, times "
+           "the Severity sheet's extra chance of death without one; surge beds not counted.", 12),
+    column("Additional deaths when beds run short, with surge beds [people]",
+           "shortage_deaths_with_surge_persons", "people", WHOLE,
+           "The same once surge beds are open.", 12),
+)
+"""The two kinds of death, in the Summary and Beds and people sheets."""
+
 SUMMARY = SheetColumns(
     sheet="Summary", file="summary.json", prefix=VARIANT_RECORD,
     columns=(
@@ -77,9 +90,7 @@ SUMMARY = SheetColumns(
                "Residents admitted to hospital over the whole period."),
         column("ICU admissions [people]", "total.icu_admissions_persons", "people", WHOLE,
                "Admissions that go to ICU over the whole period."),
-        column("Deaths among hospital patients [people]", "total.hospital_deaths_persons",
-               "people", WHOLE, "Deaths among hospital patients (ward and ICU) over the period.",
-               12),
+        *DEATHS,
         column("Residents infected [%]", "infection_attack_share", "%", PERCENT,
                "Share of residents infected over the period (the attack rate)."),
     ),
@@ -148,9 +159,7 @@ TOTALS = SheetColumns(
                "Day with the most admissions.", 12),
         column("ICU admissions [people]", "total.icu_admissions_persons", "people", WHOLE,
                "Admissions that go to ICU over the period."),
-        column("Deaths among hospital patients [people]", "total.hospital_deaths_persons",
-               "people", WHOLE, "Deaths among hospital patients (ward and ICU) over the period.",
-               12),
+        *DEATHS,
         column("Ward bed-days used [bed-days]", "total.ward_bed_days", "bed-days", WHOLE,
                "Days spent in ward beds by residents, added up over the period."),
         column("ICU bed-days used [bed-days]", "total.icu_bed_days", "bed-days", WHOLE,
@@ -193,9 +202,12 @@ EFFECT = SheetColumns(
                "Hospital admissions without the measures minus with them."),
         column("ICU admissions averted [people]", "averted_icu_admissions_persons", "people",
                WHOLE, "ICU admissions without the measures minus with them."),
-        column("Deaths among hospital patients averted [people]",
+        column("Deaths in hospital care averted [people]",
                "averted_hospital_deaths_persons", "people", WHOLE,
-               "Deaths among hospital patients without the measures minus with them.", 12),
+               "Deaths in hospital care without the measures minus with them.", 12),
+        column("Additional deaths averted [people]", "averted_shortage_deaths_persons",
+               "people", WHOLE, "Additional deaths when beds run short, without the measures "
+               "minus with them.", 12),
         column("Unmet ward bed-days averted [bed-days]", "averted_ward_unmet_bed_days",
                "bed-days", WHOLE, "Unmet ward bed-days without the measures minus with them."),
         column("Unmet ICU bed-days averted [bed-days]", "averted_icu_unmet_bed_days", "bed-days",
@@ -224,7 +236,7 @@ DAILY = SheetColumns(
         column("Day [days since day 0]", "day", "days", DAYS, "Days since day 0 of the plan.", 10),
         _daily("Admissions [people per day]", "admissions_per_day", "people per day"),
         _daily("ICU admissions [people per day]", "icu_admissions_per_day", "people per day"),
-        _daily("Deaths among hospital patients [people per day]", "hospital_deaths_per_day",
+        _daily("Deaths in hospital care [people per day]", "hospital_deaths_per_day",
                "people per day"),
         _daily("Ward demand [beds]", "ward_demand_beds", "beds"),
         _daily("Ward beds available [beds]", "ward_available_beds", "beds"),
@@ -237,7 +249,7 @@ DAILY = SheetColumns(
                "beds"),
         _daily("ICU beds short [beds]", "icu_unmet_beds", "beds"),
         _daily("Admissions so far [people]", "cumulative_admissions_persons", "people", WHOLE),
-        _daily("Deaths among hospital patients so far [people]",
+        _daily("Deaths in hospital care so far [people]",
                "cumulative_hospital_deaths_persons", "people"),
         _daily("Workers absent [people]", "absent_workers_persons", "people", WHOLE),
         _daily("Workers absent [%]", "absence_share", "%", PERCENT),

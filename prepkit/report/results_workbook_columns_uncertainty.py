@@ -197,8 +197,15 @@ METRIC_ROWS: tuple[MetricRow, ...] = (
             "Residents admitted to hospital over the period."),
     _metric("ICU admissions", "icu_admissions_persons", "people", WHOLE,
             "Admissions that go to ICU over the period."),
-    _metric("Deaths among hospital patients", "hospital_deaths_persons", "people", WHOLE,
-            "Deaths among hospital patients (ward and ICU) over the period."),
+    _metric("Deaths in hospital care", "hospital_deaths_persons", "people", WHOLE,
+            "Deaths in hospital care (ward and ICU) over the period, as if every patient had a "
+            "bed."),
+    _metric("Additional deaths when beds run short", "shortage_deaths_persons", "people",
+            WHOLE, "Patients who need a ward or ICU bed and do not get one, times the extra "
+            "chance of death without one; surge beds not counted."),
+    _metric("Additional deaths when beds run short, with surge beds",
+            "shortage_deaths_with_surge_persons", "people", WHOLE,
+            "The same once surge beds are open."),
     _metric("Ward bed-days used", "ward_bed_days", "bed-days", WHOLE,
             "Days spent in ward beds by residents, added up over the period."),
     _metric("ICU bed-days used", "icu_bed_days", "bed-days", WHOLE,

@@ -79,7 +79,8 @@ DAILY_COLUMNS: tuple[Column, ...] = (
     Column("admissions_per_day", "persons per day", "Residents admitted to hospital."),
     Column("icu_admissions_per_day", "persons per day", "Admissions that go to ICU."),
     Column("hospital_deaths_per_day", "persons per day",
-           "Deaths among hospital patients (ward and ICU) during the day."),
+           "Deaths in hospital care (ward and ICU) during the day, as if every patient had a "
+           "bed."),
     Column("doses_per_day", "doses per day", "Vaccine doses given."),
     Column("ward_census_persons", "persons", "Residents in ward beds at the end of the day."),
     Column("icu_census_persons", "persons", "Residents in ICU beds at the end of the day."),
@@ -106,7 +107,7 @@ DAILY_COLUMNS: tuple[Column, ...] = (
     Column("cumulative_admissions_persons", "persons", "Admissions so far."),
     Column("cumulative_icu_admissions_persons", "persons", "ICU admissions so far."),
     Column("cumulative_hospital_deaths_persons", "persons",
-           "Deaths among hospital patients so far."),
+           "Deaths in hospital care so far."),
     Column("cumulative_doses", "doses", "Vaccine doses given so far."),
     Column("susceptible_persons", "persons", "People who can still be infected."),
     Column("protected_persons", "persons", "People protected by vaccine."),

@@ -15,6 +15,7 @@ import pandas as pd
 from numpy.typing import NDArray
 
 from prepkit.metrics.absence import add_absence_columns
+from prepkit.metrics.beds import no_bed_extra_fatality
 from prepkit.metrics.capacity import add_capacity_columns
 from prepkit.metrics.core import BurdenTotals, ScenarioMetrics, scenario_metrics
 from prepkit.plan import SETTINGS, Plan
@@ -211,5 +212,6 @@ def run_outputs(
         daily, flows["symptomatic_onsets_per_day"], model.population, plan.bands, plan.workforce,
     )
     totals, by_label = _totals(plan, model, states[-1])
-    metrics = scenario_metrics(daily, totals, by_label, plan.population, plan.capacity)
+    metrics = scenario_metrics(daily, totals, by_label, plan.population, plan.capacity,
+                               no_bed_extra_fatality(plan.severity))
     return daily, _by_band_table(plan, dates, {**flows, **stocks}), metrics

@@ -6,6 +6,7 @@ The rules are those of the single run (:mod:`prepkit.metrics.beds`,
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
@@ -13,11 +14,17 @@ from numpy.typing import NDArray
 
 from prepkit.metrics.absence import absence, worker_count
 from prepkit.metrics.beds import (
+    BED_KINDS,
     bed_loads,
+    bed_patients,
     bed_supply,
     days_over_capacity,
+    extra_fatality_key,
+    no_bed_extra_fatality,
     outbreak_demand,
+    shortage_deaths,
     strain_limits,
+    unserved_patients,
 )
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import ScenarioRun
@@ -57,6 +64,7 @@ def _daily_loads(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]]
         for key in _LOADS:
             out[f"{kind}_{key}"] = np.empty(n, dtype=np.int64 if "days" in key else np.float64)
         out[f"{kind}_strained"] = np.empty(n, dtype=np.int64)
+        out[f"{kind}_needed"] = np.empty(n, dtype=np.float64)
     onsets = draws.get("worker_onsets_per_day")
     school = draws.get("school_closure_intensity_share")
     for start in range(0, n, SCALAR_CHUNK):
@@ -66,6 +74,7 @@ def _daily_loads(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]]
             got = bed_loads(demand, available, surge, capacity.surge_trigger_occupancy,
                             capacity.surge_days_to_open)
             out[f"{kind}_strained"][rows] = days_over_capacity(demand, strain[kind])
+            out[f"{kind}_needed"][rows] = demand.sum(axis=-1)
             for key in ("over", "over_surge"):
                 daily[f"{kind}_{key}"][rows] = got[key]
             for key in _LOADS:
@@ -79,13 +88,16 @@ def _daily_loads(plan: Plan, draws: DrawSeries) -> tuple[dict[str, NDArray[Any]]
 
 
 def draw_scalars(
-    plan: Plan, draws: DrawSeries
+    plan: Plan, draws: DrawSeries, outcomes: Mapping[str, NDArray[np.float64]]
 ) -> tuple[dict[str, NDArray[Any]], dict[str, Any]]:
     """Per-draw scalar outputs and the daily arrays the quantile bands need.
 
     The scalars are those of :data:`~prepkit.uncertainty.results.SUMMARY_METRICS`;
     the arrays ``absence_share``, ``{kind}_over`` and ``{kind}_over_surge``
-    (per draw and day) and ``{kind}_available`` [beds].
+    (per draw and day) and ``{kind}_available`` [beds]. ``outcomes`` holds
+    the draws' outcome fields by key
+    (:func:`prepkit.uncertainty.fields.outcome_values`); an absent key takes
+    the plan's Central value.
     """
     out, daily = _daily_loads(plan, draws)
     catch = plan.capacity.catchment_share
@@ -104,6 +116,15 @@ def draw_scalars(
     scalars["total_unmet_bed_days_with_surge"] = (
         scalars["ward_unmet_bed_days_with_surge"] + scalars["icu_unmet_bed_days_with_surge"]
     )
+    finals = dict(zip(FINAL_NAMES, draws.finals.T, strict=True))
+    patients = bed_patients(finals["admissions_persons"], finals["icu_admissions_persons"],
+                            plan.capacity)
+    central = no_bed_extra_fatality(plan.severity)
+    extra = {kind: outcomes.get(extra_fatality_key(kind), central[kind]) for kind in BED_KINDS}
+    for suffix, unmet_key in (("", "unmet"), ("_with_surge", "unmet_surge")):
+        unserved = {kind: unserved_patients(out[f"{kind}_{unmet_key}"], out[f"{kind}_needed"],
+                                            patients[kind]) for kind in BED_KINDS}
+        scalars[f"shortage_deaths{suffix}_persons"] = shortage_deaths(unserved, extra)
     scalars["peak_admissions_per_day"] = draws.peaks[:, 2]
     scalars["peak_absence_share"] = out["peak_absence"]
     for j, name in enumerate(FINAL_NAMES):
@@ -150,6 +171,8 @@ def run_values(run: ScenarioRun) -> dict[str, float]:
         "admissions_persons": total.admissions_persons,
         "icu_admissions_persons": total.icu_admissions_persons,
         "hospital_deaths_persons": total.hospital_deaths_persons,
+        "shortage_deaths_persons": m.shortage_deaths_persons,
+        "shortage_deaths_with_surge_persons": m.shortage_deaths_with_surge_persons,
         "ward_bed_days": total.ward_bed_days,
         "icu_bed_days": total.icu_bed_days,
     }

@@ -34,6 +34,11 @@ class FieldRange(Protocol):
     def high(self) -> NDArray[np.float64]: ...  # noqa: D102
     @property
     def is_point(self) -> bool: ...  # noqa: D102
+    @property
+    def outcome(self) -> bool: ...  # noqa: D102
+    @property
+    def column(self) -> int: ...  # noqa: D102
+    def values(self, u: NDArray[np.float64]) -> NDArray[np.float64]: ...  # noqa: D102
 
 
 SERIES_NAMES: tuple[str, ...] = (

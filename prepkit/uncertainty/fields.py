@@ -14,12 +14,14 @@ from numpy.typing import NDArray
 from prepkit.errors import ModelError
 from prepkit.plan import Level, Plan, Range3, Scenario
 from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
+from prepkit.uncertainty.draws import FieldRange
 from prepkit.uncertainty.sampling import latin_hypercube, pert_ppf
 from prepkit.workbook.field_types import Field, Sampled
 from prepkit.workbook.schema import FIELDS
 from prepkit.workbook.targets import Target, parse_target, resolve
 
-__all__ = ["UncertainField", "plan_dimensions", "sample_quantiles", "scenario_fields"]
+__all__ = ["UncertainField", "outcome_values", "plan_dimensions", "sample_quantiles",
+           "scenario_fields"]
 
 
 def _range_at_level(values: Range3, level: Level) -> tuple[float, float, float]:
@@ -54,6 +56,9 @@ class UncertainField:
         PERT range and mode the field is drawn from in this scenario.
     column : int
         Column of the field in the Latin hypercube sample.
+    outcome : bool
+        A weight of the model's outcomes, not one of its inputs
+        (:attr:`prepkit.workbook.field_types.Sampled.outcome`).
     """
 
     key: str
@@ -64,6 +69,7 @@ class UncertainField:
     mode: NDArray[np.float64]
     high: NDArray[np.float64]
     column: int
+    outcome: bool = False
 
     @property
     def is_point(self) -> bool:
@@ -169,14 +175,14 @@ def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainFiel
     out: list[UncertainField] = []
 
     def add(key: str, label: str, unit: str, ranges: Sequence[tuple[float, float, float]],
-            per_band: bool) -> None:
+            per_band: bool, outcome: bool = False) -> None:
         low, mode, high = (np.array(x, dtype=np.float64) for x in zip(*ranges, strict=True))
         out.append(UncertainField(key=key, label=label, unit=unit, per_band=per_band, low=low,
-                                  mode=mode, high=high, column=columns[key]))
+                                  mode=mode, high=high, column=columns[key], outcome=outcome))
 
     for sampled, value, per_band in _plan_choices(plan):
         add(sampled.key, sampled.label, sampled.unit, _ranges(value, _level(sampled, chosen)),
-            per_band)
+            per_band, sampled.outcome)
     first_seen: set[str] = set()
     for name in chosen.interventions:
         item = plan.intervention(name)
@@ -188,6 +194,20 @@ def scenario_fields(plan: Plan, scenario: Scenario | str) -> tuple[UncertainFiel
             add(sampled.key.format(name=name), sampled.label.format(name=name), sampled.unit,
                 _ranges(value, _level(sampled, chosen)), False)
     return tuple(out)
+
+
+def outcome_values(
+    fields: Sequence[FieldRange], sample: NDArray[np.float64] | None, count: int
+) -> dict[str, NDArray[np.float64]]:
+    """Per draw, the value of each outcome field [its unit], by key.
+
+    From the Latin hypercube ``sample`` (:func:`sample_quantiles`), or, with
+    ``sample`` None, every one of ``count`` rows at the field's mode (the
+    one-at-a-time runs, which leave outcome fields at their mode).
+    """
+    return {item.key: (item.values(sample[:, item.column]) if sample is not None
+                       else np.full(count, float(item.mode[0])))
+            for item in fields if item.outcome}
 
 
 def sample_quantiles(plan: Plan, draws: int, seed: int | None = None) -> NDArray[np.float64]:

@@ -43,6 +43,8 @@ SUMMARY_METRICS: tuple[str, ...] = (
     "admissions_persons",
     "icu_admissions_persons",
     "hospital_deaths_persons",
+    "shortage_deaths_persons",
+    "shortage_deaths_with_surge_persons",
     "ward_bed_days",
     "icu_bed_days",
 )

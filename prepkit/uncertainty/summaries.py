@@ -29,6 +29,7 @@ from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.draw_values import DrawValues
 from prepkit.uncertainty.draw_metrics import draw_scalars, peak_days, run_values
 from prepkit.uncertainty.draws import DrawSeries, FieldRange
+from prepkit.uncertainty.fields import outcome_values
 from prepkit.uncertainty.results import (
     BAND_SERIES,
     PEAK_SERIES,
@@ -228,7 +229,7 @@ def ensemble_result(
     quantiles: tuple[float, ...], seed: int, scenario_run: ScenarioRun | None, started: float,
 ) -> EnsembleResult:
     """Every table of the ensemble of one scenario variant from its draws and tornado."""
-    scalars, arrays = draw_scalars(plan, runs)
+    scalars, arrays = draw_scalars(plan, runs, outcome_values(fields, sample, sample.shape[0]))
     catch = plan.capacity.catchment_share
     day0 = plan.details.day0
     dates = pd.date_range(pd.Timestamp(day0), periods=model.horizon_days, freq="D", name="date")

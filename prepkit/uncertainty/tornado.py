@@ -20,6 +20,7 @@ from prepkit.simulation.identity import Shared, draws_key
 from prepkit.uncertainty.draw_metrics import draw_scalars, peak_days
 from prepkit.uncertainty.draws import DrawSeries, FieldRange, mode_values, values_from
 from prepkit.uncertainty.ensemble import simulate_draws
+from prepkit.uncertainty.fields import outcome_values
 
 ICU_COLUMNS = ["field", "label", "unit", "per_band", "input_low", "input_high",
                "peak_icu_demand_at_low_beds", "peak_icu_demand_at_high_beds",
@@ -106,7 +107,8 @@ def tornado(
     """
     relevant = [
         item for item in fields
-        if not item.is_point and (model.with_interventions or not is_intervention_field(item))
+        if not item.is_point and not item.outcome
+        and (model.with_interventions or not is_intervention_field(item))
     ]
     count = 1 + 2 * len(relevant)
     got = mode_values(fields, count)
@@ -123,7 +125,7 @@ def tornado(
 
     draws = simulate() if shared is None else shared.once(
         "tornado", draws_key(model, plan, values, min_substeps, 1, "float64"), simulate)
-    scalars, _ = draw_scalars(plan, draws)
+    scalars, _ = draw_scalars(plan, draws, outcome_values(fields, None, count))
     rows_icu, rows_unmet = _rows(
         relevant, scalars["peak_icu_demand_beds"], scalars["total_unmet_bed_days"]
     )

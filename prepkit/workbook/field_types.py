@@ -38,6 +38,10 @@ class Sampled:
     first_only : bool
         Per-measure fields: drawn only for the first measure of a scenario
         that has the value (one vaccine per scenario).
+    outcome : bool
+        Not an input of the model but a weight of its outcomes (the extra
+        deaths of patients without a bed): drawn like the others, used by the
+        metrics only, and left out of the one-at-a-time sensitivity runs.
     """
 
     key: str
@@ -47,6 +51,7 @@ class Sampled:
     around: SampledRange = "full"
     inverted: bool = False
     first_only: bool = False
+    outcome: bool = False
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -5,6 +5,7 @@ Each declared once; the layout rules are in :mod:`prepkit.workbook.schema`.
 
 from __future__ import annotations
 
+from prepkit.plan import NO_BED_EXTRA_FATALITY
 from prepkit.workbook.field_types import Field, Sampled
 from prepkit.workbook.sheets import (
     BAND_KEY_HELP,
@@ -13,6 +14,24 @@ from prepkit.workbook.sheets import (
     SEVERITY,
     TYPICAL_VALUE,
 )
+
+
+def _no_bed_field(kind: str, rank: int) -> Field:
+    """The extra chance of death of a patient without a ``kind`` ("ward" or "icu") bed."""
+    bed = {"ward": "a ward bed", "icu": "an ICU bed"}[kind]
+    patients = {"ward": "ward patients", "icu": "ICU patients"}[kind]
+    label = f"Extra deaths without {bed}"
+    return Field(
+        name=f"severity.{kind}_no_bed_extra_fatality",
+        target=f"severity.{kind}_no_bed_extra_fatality",
+        sampled=Sampled(key=f"{kind}_no_bed_extra_fatality", label=label, unit="fraction",
+                        rank=rank, outcome=True),
+        sheet=SEVERITY, label=label, unit="%", type="share",
+        default=NO_BED_EXTRA_FATALITY[kind], uncertain=True,
+        help=f"Added chance of death for a patient who needs {bed} and does not get one, over "
+             f"the usual deaths of {patients}. Default {NO_BED_EXTRA_FATALITY[kind]:.0%}: "
+             + TYPICAL_VALUE + ".")
+
 
 DISEASE_FIELDS: tuple[Field, ...] = (
     # ---- Disease ------------------------------------------------------------------------
@@ -119,6 +138,7 @@ DISEASE_FIELDS: tuple[Field, ...] = (
           type="integer", minimum=1, maximum=10, default=2,
           help="Shape of the ICU length of stay, as for the ward. Default 2: "
                + TYPICAL_VALUE + "."),
+    *(_no_bed_field(kind, rank) for kind, rank in (("ward", 11), ("icu", 12))),
     Field(name="band_severity.band", sheet=SEVERITY, table="band_severity", label="Band",
           unit="", type="text", required=True, help=BAND_KEY_HELP),
     Field(name="band_severity.admitted_share", target="severity.admitted_share[band]",

@@ -39,7 +39,8 @@ def test_the_single_run_reports_both_thresholds() -> None:
     daily = pd.DataFrame({"ward_demand_beds": DEMAND, "ward_census_persons": DEMAND},
                          index=DATES)
     available, surge = bed_supply(capacity)["ward"]
-    bed = bed_metrics(daily, "ward", available, surge, 0.8, 3.0, strain_limits(capacity)["ward"])
+    bed = bed_metrics(daily, "ward", available, surge, 0.8, 3.0, strain_limits(capacity)["ward"],
+                      10.0)
     assert (bed.days_strained_days, bed.days_over_capacity_days) == (5, 1)
     assert bed.strain_headroom_beds == 15.0
 
@@ -63,6 +64,6 @@ def test_beds_three_quarters_full_of_other_patients_are_always_strained() -> Non
                              index=DATES)
         available, surge = bed_supply(capacity)["ward"]
         bed = bed_metrics(daily, "ward", available, surge, 0.8, 3.0,
-                          strain_limits(capacity)["ward"])
+                          strain_limits(capacity)["ward"], 10.0)
         assert bed.always_strained is always, baseline
         assert bed.days_strained_days == days, baseline

@@ -35,6 +35,7 @@ import pytest
 from pypdf import PdfReader
 from pypdf.generic import ContentStream
 
+from prepkit.fitting.project import fit_stage
 from prepkit.pipeline.demo import sample_workbook
 from prepkit.pipeline.pack import render_pack
 from prepkit.report.charts_base import TEXT_BLOCK_HEIGHTS_IN, chart_height
@@ -365,13 +366,14 @@ class Rendered:
 
 @pytest.fixture(scope="module")
 def packs(tmp_path_factory: pytest.TempPathFactory) -> list[Rendered]:
-    """Both samples in both paper sizes, as the pack's own renderer makes them."""
+    """Both samples in both paper sizes, as ``prepkit run`` makes them (fitted to the observed
+    figures where a sample has them: the fit adds a page, a cover row and leader lines)."""
     folder = tmp_path_factory.mktemp("layout")
     out = []
     with pytest.MonkeyPatch.context() as mp:
         mp.setenv("SOURCE_DATE_EPOCH", EPOCH)
         for workbook in SAMPLES:
-            plan = read_plan(sample_workbook(workbook))
+            plan, fit = fit_stage(read_plan(sample_workbook(workbook)))
             results = run_plan(plan)
             ensemble = run_uncertainty(plan, results)
             for size in SIZES:
@@ -379,7 +381,7 @@ def packs(tmp_path_factory: pytest.TempPathFactory) -> list[Rendered]:
                     plan, details=dataclasses.replace(plan.details, page_size=size)
                 )
                 pdf = folder / f"{Path(workbook).stem}-{size}.pdf"
-                pdf.write_bytes(render_pack(sized, results, ensemble=ensemble)
+                pdf.write_bytes(render_pack(sized, results, ensemble=ensemble, fit=fit)
                                 .files["briefing-pack.pdf"])
                 reader = PdfReader(pdf)
                 box = reader.pages[0].mediabox

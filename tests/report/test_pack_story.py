@@ -21,7 +21,7 @@ from prepkit.fitting.project import fit_stage
 from prepkit.pipeline import run as pipeline
 from prepkit.report.observed import consistent_with
 from prepkit.report.words.formatting import format_date, format_number
-from prepkit.report.words.leader import DEATHS_NOTE, observed_flag
+from prepkit.report.words.leader import deaths_note, observed_flag
 from prepkit.report.words.scenario_text import bed_shortfall
 from prepkit.report.words.views import ScenarioView, scenario_views, with_observations
 from prepkit.scenarios.runs import run_plan
@@ -194,13 +194,21 @@ def test_town_sentences_add_up(town: tuple[_Text, Path, object]) -> None:
 # ---- Deaths say what they are -------------------------------------------------------------------
 
 
+KINDS_OF_DEATH = ("in hospital care", "when beds run short", "Additional deaths")
+"""Every death figure says which it is: in hospital care (as if every patient had a bed) or
+additional when beds run short."""
+
+
 def test_deaths_are_labelled_everywhere(city: tuple[_Text, Path, object]) -> None:
-    parsed, outdir, _ = city
-    assert DEATHS_NOTE in parsed.section("summary")
+    parsed, outdir, plan = city
+    views, uncertainty = _views(plan, DRAWS)
+    note = deaths_note(views, uncertainty, plan.severity)  # type: ignore[attr-defined]
+    assert "Running short of beds adds" in note and " ".join(note.split()) in parsed.section(
+        "summary")
     for row in parsed.rows:
         for cell in row[:1]:
             if "eath" in cell:
-                assert "hospital patients" in cell, cell
+                assert any(kind in cell for kind in KINDS_OF_DEATH), cell
 
     def keys(node: object) -> list[str]:
         if isinstance(node, dict):
@@ -211,13 +219,14 @@ def test_deaths_are_labelled_everywhere(city: tuple[_Text, Path, object]) -> Non
 
     summary = json.loads((outdir / "summary.json").read_text(encoding="utf-8"))
     death_keys = {k for k in keys(summary) if "death" in k}
-    assert death_keys and all("hospital_deaths" in k for k in death_keys), death_keys
+    assert death_keys and all("hospital_deaths" in k or "shortage_deaths" in k
+                              for k in death_keys), death_keys
     book = openpyxl.load_workbook(outdir / "results.xlsx", read_only=True)
     for ws in book.worksheets:
         for row in ws.iter_rows(max_row=6, values_only=True):
             for value in row:
                 if isinstance(value, str) and "eath" in value and "[" in value:
-                    assert "hospital patients" in value, (ws.title, value)
+                    assert any(kind in value for kind in KINDS_OF_DEATH), (ws.title, value)
     header = (outdir / "daily-series.csv").read_text(encoding="utf-8").splitlines()[0]
     assert all("hospital_deaths" in c for c in header.split(",") if "death" in c)
 

@@ -63,6 +63,8 @@ def bed(**changes: Any) -> BedMetrics:
         days_over_capacity_with_surge_days=25,
         unmet_bed_days_with_surge=2000.0,
         largest_shortfall_with_surge_beds=92.2,
+        unserved_patients_persons=120.0,
+        unserved_patients_with_surge_persons=60.0,
     )
     values.update(changes)
     return BedMetrics(**values)

@@ -143,7 +143,7 @@ def test_summary_holds_the_engine_metrics_unrounded(built: Built) -> None:
     assert _header(ws) == cols.SUMMARY.headers
     col = cols.SUMMARY.headers.index("Ward peak demand [beds]") + 1
     date_col = cols.SUMMARY.headers.index("Ward peak date") + 1
-    deaths = cols.SUMMARY.headers.index("Deaths among hospital patients [people]") + 1
+    deaths = cols.SUMMARY.headers.index("Deaths in hospital care [people]") + 1
     share = cols.SUMMARY.headers.index("Residents infected [%]") + 1
     # openpyxl writes 16 significant digits; anything coarser would be rounding of ours.
     unrounded = functools.partial(pytest.approx, rel=1e-15, abs=0)

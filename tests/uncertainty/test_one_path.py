@@ -51,7 +51,7 @@ def test_daily_series_agree(both: Any) -> None:
     for name in ("ward_census_persons", "icu_census_persons", "admissions_per_day",
                  "school_closure_intensity_share"):
         _close(draws.get(name)[0], run.daily[name].to_numpy())
-    _, arrays = draw_scalars(plan, draws)
+    _, arrays = draw_scalars(plan, draws, {})
     _close(arrays["absence_share"][0], run.daily["absence_share"].to_numpy())
     assert_allclose(draws.beta[0], model.beta, rtol=RTOL)
 
@@ -59,7 +59,7 @@ def test_daily_series_agree(both: Any) -> None:
 def test_metrics_agree(both: Any) -> None:
     # common practice, no source: every summary metric of the draw is the run's
     plan, _, draws, run = both
-    scalars, _ = draw_scalars(plan, draws)
+    scalars, _ = draw_scalars(plan, draws, {})
     expected = run_values(run)
     for name in SUMMARY_METRICS:
         if name.endswith("_days_over_capacity_days") or "over_capacity_with_surge" in name:

@@ -169,7 +169,7 @@ def outcomes_words(views: Sequence[ScenarioView]) -> ChartWords:
     scenario, with and without measures.
     """
     parts = [
-        "Bar chart of total admissions, ICU admissions and deaths among hospital patients "
+        "Bar chart of total admissions, ICU admissions and deaths in hospital care "
         "by scenario."
     ]
     for view in views:
@@ -185,7 +185,7 @@ def outcomes_words(views: Sequence[ScenarioView]) -> ChartWords:
     return ChartWords(
         title="Totals over the period",
         caption=(
-            "Hospital admissions, ICU admissions and deaths among hospital patients over the "
+            "Hospital admissions, ICU admissions and deaths in hospital care over the "
             "whole period, by scenario, with and without measures."
         ),
         alt=alt,

@@ -292,8 +292,8 @@ def fit_leader_line(plan: Plan, fit: FitOutcome | None) -> str:
     ruled = [f"“{c.scenario}”" for c in report.consistency if not c.consistent]
     text = (f"These projections are fitted to local hospital figures up to "
             f"{format_date(report.as_of)}: {growth_phrase(latest, 'infections')}. "
-            "Every scenario runs at that fitted spread and severity and differs from the "
-            "others only by its measures.")
+            "Every scenario runs at that spread and severity; they differ only by their "
+            "measures.")
     if ruled:
         names = name_list(ruled)
         text += (f" The spread and severity the workbook gives {names} are already ruled out "

@@ -5,18 +5,23 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from prepkit.base.plural import all_of
-from prepkit.plan import Plan
+from prepkit.metrics.beds import no_bed_extra_fatality
+from prepkit.plan import Plan, Severity
+from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble, summary_row
 from prepkit.report.words.formatting import (
     BED_NOUNS,
+    count_phrase,
     format_date,
     format_days,
     format_number,
+    format_percent,
     name_list,
     quoted,
 )
 from prepkit.report.words.scenario_text import measures_sentence
 from prepkit.report.words.uncertainty_text import EnsembleWords
 from prepkit.report.words.views import ScenarioView
+from prepkit.uncertainty.results import UncertaintyResults
 
 #: Caution printed on the cover, the leader page and the limitations page.
 CAUTION_LINE = (
@@ -25,10 +30,44 @@ CAUTION_LINE = (
 )
 
 
-#: What the death figures count, said on the leader page.
-DEATHS_NOTE = (
-    "Deaths here are among hospital patients, as if every patient who needs a bed gets one."
-)
+def deaths_note(views: Sequence[ScenarioView], uncertainty: UncertaintyResults | None,
+                severity: Severity) -> str:
+    """The leader page's sentence on the two kinds of death the pack counts.
+
+    Deaths in hospital care are counted as if every patient had a bed; the
+    additional deaths when beds run short (:func:`prepkit.metrics.beds.shortage_deaths`)
+    are named for the scenario with the most, with the ensemble's range.
+
+    Returns
+    -------
+    str
+        E.g. "Running short of beds adds about 40 deaths in “Central
+        figures, vaccine only” (19 to 66 in 9 of 10 futures), at an added
+        25% chance of dying without an ICU bed, beyond the deaths in hospital
+        care (counted as if every patient had a bed)."
+    """
+    care = "Deaths in hospital care are counted as if every patient had a bed."
+    if not views:
+        return care
+    worst = max(views, key=lambda v: v.with_metrics.shortage_deaths_persons)
+    added = worst.with_metrics.shortage_deaths_persons
+    if added < 0.5:
+        return f"{care} No scenario runs short enough of beds to add a death."
+    spread = ""
+    item = scenario_ensemble(uncertainty, worst.name)
+    if item is not None and uncertainty is not None:
+        q_low, _, q_high = band_columns(uncertainty.quantiles)
+        row = summary_row(item.with_interventions, "shortage_deaths_persons")
+        share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
+        spread = (f" ({format_number(float(row[q_low]), words=True)} to "
+                  f"{format_number(float(row[q_high]), words=True)} in "
+                  f"{round(10 * share)} of 10 futures)")
+    extra = no_bed_extra_fatality(severity)
+    return (f"Running short of beds adds {count_phrase(added, 'death', 'deaths')} in "
+            f"{quoted(worst.name)}{spread}, at an added {format_percent(extra['icu'])} chance "
+            "of dying without an ICU bed, beyond the deaths in hospital care (counted as if "
+            "every patient had a bed).")
+
 
 
 DECISIONS_LINE = (

@@ -15,10 +15,10 @@ from prepkit.report.words.fit_text import fit_context, fit_leader_line
 from prepkit.report.words.formatting import format_date, format_days, format_number
 from prepkit.report.words.leader import (
     CAUTION_LINE,
-    DEATHS_NOTE,
     DECISIONS_LINE,
     bottom_line,
     certainty_sentences,
+    deaths_note,
     headline_measures_text,
     measures_headline,
     observed_flag,
@@ -193,7 +193,7 @@ def build_context(
         "fit": fit_words,
         "as_of": as_of,
         "review": review_words(plan, generated),
-        "deaths_note": DEATHS_NOTE,
+        "deaths_note": deaths_note(views, uncertainty, plan.severity),
         "headline": headline,
         "headline_measures": headline_measures_text(headline) if headline else "",
         "certainty": certainty_sentences(plan, views, ensemble),

@@ -214,11 +214,18 @@ def measures_sentence(item: ScenarioResults) -> str:
     change = peak_change(effect.ward_peak_reduction_share, effect.ward_peak_delay_days)
     admissions = effect.averted_admissions_persons
     deaths = effect.averted_hospital_deaths_persons
+    shortage = effect.averted_shortage_deaths_persons
     if admissions >= 0.5:
-        averted = (
-            f"They avert {count_phrase(admissions, 'admission', 'admissions')} and "
-            f"{count_phrase(max(deaths, 0.0), 'death', 'deaths')} among hospital patients."
-        )
+        care = f"{count_phrase(max(deaths, 0.0), 'death', 'deaths')} in hospital care"
+        if shortage >= 0.5:
+            averted = (
+                f"They avert {count_phrase(admissions, 'admission', 'admissions')}, {care} "
+                f"and {count_phrase(shortage, 'additional death', 'additional deaths')} "
+                "when beds run short."
+            )
+        else:
+            averted = (f"They avert {count_phrase(admissions, 'admission', 'admissions')} "
+                       f"and {care}.")
     elif admissions <= -0.5:
         averted = (
             f"They add {count_phrase(-admissions, 'admission', 'admissions')} over the period "

@@ -116,8 +116,8 @@ def baseline_strain_note(plan: Plan, views: Sequence[ScenarioView]) -> str:
         return ""
     said = " and ".join(
         f"{format_percent(shares[k])} of {BED_NOUNS[k][1]} beds" for k in full)  # type: ignore[index]
-    return (f"Other patients alone fill {said} on an ordinary day, so any outbreak patient "
-            f"takes them above {format_percent(STRAIN_OCCUPANCY)}.")
+    return (f"Other patients alone fill {said}, so any outbreak patient takes them over "
+            f"{format_percent(STRAIN_OCCUPANCY)}.")
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -114,7 +114,7 @@ def ensemble_context(
     chances, rows, spread = _ensemble_rows(views, uncertainty)
     if len(chances) > 1:
         sentences.append(
-            "Plausible futures in which ICU beds run short at some point, with measures: "
+            "Chance that ICU beds run short at some point, with measures: "
             + "; ".join(chances) + "."
         )
     drivers = ""
