@@ -47,6 +47,7 @@ followed by excess deaths).
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
@@ -156,7 +157,7 @@ def no_bed_extra_fatality(severity: Severity) -> dict[str, float]:
     return {kind: getattr(severity, extra_fatality_key(kind)).central for kind in BED_KINDS}
 
 
-def shortage_deaths(unserved: dict[str, Any], extra_fatality: dict[str, Any]) -> Any:
+def shortage_deaths(unserved: Mapping[str, Any], extra_fatality: Mapping[str, Any]) -> Any:
     """Additional deaths when beds run short [persons]: unserved x extra chance, ward plus ICU.
 
     ``unserved`` and ``extra_fatality`` are keyed by bed type (``"ward"``,

@@ -154,9 +154,8 @@ def scenario_metrics(
         peak_absence_share=abs_peak,
         peak_absence_date=abs_date,
         ventilators=ventilator_metrics(daily, capacity),
-        shortage_deaths_persons=float(shortage_deaths(unserved, dict(extra_fatality))),
-        shortage_deaths_with_surge_persons=float(shortage_deaths(unserved_surge,
-                                                                 dict(extra_fatality))),
+        shortage_deaths_persons=float(shortage_deaths(unserved, extra_fatality)),
+        shortage_deaths_with_surge_persons=float(shortage_deaths(unserved_surge, extra_fatality)),
     )
 
 

@@ -116,8 +116,9 @@ def draw_scalars(
     scalars["total_unmet_bed_days_with_surge"] = (
         scalars["ward_unmet_bed_days_with_surge"] + scalars["icu_unmet_bed_days_with_surge"]
     )
-    finals = dict(zip(FINAL_NAMES, draws.finals.T, strict=True))
-    patients = bed_patients(finals["admissions_persons"], finals["icu_admissions_persons"],
+    for j, name in enumerate(FINAL_NAMES):
+        scalars[name] = draws.finals[:, j]
+    patients = bed_patients(scalars["admissions_persons"], scalars["icu_admissions_persons"],
                             plan.capacity)
     central = no_bed_extra_fatality(plan.severity)
     extra = {kind: outcomes.get(extra_fatality_key(kind), central[kind]) for kind in BED_KINDS}
@@ -127,8 +128,6 @@ def draw_scalars(
         scalars[f"shortage_deaths{suffix}_persons"] = shortage_deaths(unserved, extra)
     scalars["peak_admissions_per_day"] = draws.peaks[:, 2]
     scalars["peak_absence_share"] = out["peak_absence"]
-    for j, name in enumerate(FINAL_NAMES):
-        scalars[name] = draws.finals[:, j]
     return scalars, daily
 
 

@@ -11,6 +11,7 @@ from prepkit.report.words.chart_words import ChartWords
 from prepkit.report.words.ensemble_format import (
     band_columns,
     inner_band_columns,
+    range_tenths,
     spread_cells,
     summary_row,
 )
@@ -71,7 +72,7 @@ def bands_words(views: Sequence[ScenarioView], uncertainty: UncertaintyResults) 
             + ("the dark band holds the middle half of the futures (25th to 75th percentile) "
                "and the light band " if inner_band_columns(uncertainty.quantiles) else
                "the band ")
-            + f"{round(10 * (max(uncertainty.quantiles) - min(uncertainty.quantiles)))} in 10 "
+            + f"{range_tenths(uncertainty.quantiles)} in 10 "
             f"({low_pct}th to {high_pct}th percentile). On a day the black line of available "
             "beds lies below the median, beds run short in more than half of the futures; below "
             f"the top of the band, in more than {100 - high_pct} in 100. A wide band means the "

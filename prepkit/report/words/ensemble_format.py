@@ -101,6 +101,11 @@ def summary_row(result: EnsembleResult, quantity: str) -> pd.Series:
     return row
 
 
+def range_tenths(quantiles: Sequence[float]) -> int:
+    """Futures in 10 that the reported range holds: 9 for the 5th to the 95th percentile [count]."""
+    return round(10 * (max(quantiles) - min(quantiles)))
+
+
 def inner_band_columns(quantiles: Sequence[float]) -> tuple[str, str] | None:
     """Suffixes of the fan charts' inner band, ``("q25", "q75")``, or None when not reported."""
     if not all(q in quantiles for q in FAN_QUANTILES):

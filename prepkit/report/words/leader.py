@@ -7,7 +7,12 @@ from collections.abc import Sequence
 from prepkit.base.plural import all_of
 from prepkit.metrics.beds import no_bed_extra_fatality
 from prepkit.plan import Plan, Severity
-from prepkit.report.words.ensemble_format import band_columns, scenario_ensemble, summary_row
+from prepkit.report.words.ensemble_format import (
+    band_columns,
+    range_tenths,
+    scenario_ensemble,
+    summary_row,
+)
 from prepkit.report.words.formatting import (
     BED_NOUNS,
     count_phrase,
@@ -58,10 +63,9 @@ def deaths_note(views: Sequence[ScenarioView], uncertainty: UncertaintyResults |
     if item is not None and uncertainty is not None:
         q_low, _, q_high = band_columns(uncertainty.quantiles)
         row = summary_row(item.with_interventions, "shortage_deaths_persons")
-        share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
         spread = (f" ({format_number(float(row[q_low]), words=True)} to "
                   f"{format_number(float(row[q_high]), words=True)} in "
-                  f"{round(10 * share)} of 10 futures)")
+                  f"{range_tenths(uncertainty.quantiles)} of 10 futures)")
     extra = no_bed_extra_fatality(severity)
     return (f"Running short of beds adds {count_phrase(added, 'death', 'deaths')} in "
             f"{quoted(worst.name)}{spread}, at an added {format_percent(extra['icu'])} chance "

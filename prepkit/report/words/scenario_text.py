@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Sequence
+from typing import Literal
 
 from prepkit.metrics.core import BedMetrics, VentilatorMetrics
 from prepkit.report.observed import ObservedCheck
@@ -153,35 +154,38 @@ def surge_sentence(kind: BedKind, bed: BedMetrics) -> str:
     return f"The {beds} surge {noun} beds (ready from {ready}) would come too late to help."
 
 
-def peak_change(reduction_share: float | None, delay: int | None) -> str:
-    """What the measures do to the ward peak, to follow "The measures"."""
+_PEAK_WORDS = {
+    "sentence": ("there is no ward demand to lower", "lower the ward peak by {}",
+                 "raise the ward peak by {}", "leave the ward peak almost unchanged",
+                 " and delay it by {}", " and bring it forward by {}"),
+    "cell": ("No ward demand to lower", "Ward peak {} lower", "Ward peak {} higher",
+             "Ward peak almost unchanged", ", {} later", ", {} earlier"),
+}
+"""How :func:`peak_change` says each case, after "The measures" or in a table cell."""
+
+
+def peak_change(reduction_share: float | None, delay: int | None, *,
+                form: Literal["sentence", "cell"] = "sentence") -> str:
+    """What the measures do to the ward peak.
+
+    ``form="sentence"`` follows "The measures" ("lower the ward peak by 74%
+    and delay it by 7 days"); ``form="cell"`` stands alone in a table ("Ward
+    peak 74% lower, 7 days later"). Changes under half a percent count as
+    none.
+    """
+    none, lower, higher, same, later, earlier = _PEAK_WORDS[form]
     if reduction_share is None:
-        return "there is no ward demand to lower"
+        return none
     if reduction_share >= 0.005:
-        text = f"lower the ward peak by {format_percent(reduction_share)}"
+        text = lower.format(format_percent(reduction_share))
     elif reduction_share <= -0.005:
-        text = f"raise the ward peak by {format_percent(-reduction_share)}"
+        text = higher.format(format_percent(-reduction_share))
     else:
-        text = "leave the ward peak almost unchanged"
+        text = same
     if delay is not None and delay > 0:
-        text += f" and delay it by {format_days(delay)}"
+        text += later.format(format_days(delay))
     elif delay is not None and delay < 0:
-        text += f" and bring it forward by {format_days(-delay)}"
-    return text
-
-
-def peak_change_short(reduction_share: float, delay: int | None) -> str:
-    """The measures' effect on the ward peak: ``Ward peak 74% lower, 7 days later``."""
-    if reduction_share >= 0.005:
-        text = f"Ward peak {format_percent(reduction_share)} lower"
-    elif reduction_share <= -0.005:
-        text = f"Ward peak {format_percent(-reduction_share)} higher"
-    else:
-        text = "Ward peak almost unchanged"
-    if delay is not None and delay > 0:
-        text += f", {format_days(delay)} later"
-    elif delay is not None and delay < 0:
-        text += f", {format_days(-delay)} earlier"
+        text += earlier.format(format_days(-delay))
     return text
 
 

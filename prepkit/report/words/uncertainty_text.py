@@ -16,6 +16,7 @@ from prepkit.report.words.ensemble_format import (
     chance_cell,
     chance_phrase,
     likely_period,
+    range_tenths,
     scenario_ensemble,
     spread_cells,
     summary_row,
@@ -105,8 +106,7 @@ def ensemble_context(
     """
     if uncertainty is None or not uncertainty.scenarios:
         return None
-    share = max(uncertainty.quantiles) - min(uncertainty.quantiles)
-    range_words = f"{round(10 * share)} of 10"
+    range_words = f"{range_tenths(uncertainty.quantiles)} of 10"
     draws = int(uncertainty.draws)
     short = [v for v in views if v.short_of_beds]
     focus = max(short, key=lambda v: v.unmet_bed_days) if short else (views[0] if views else None)

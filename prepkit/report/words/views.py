@@ -26,7 +26,7 @@ from prepkit.report.words.scenario_text import (
     bed_sentence,
     measures_sentence,
     observed_sentence,
-    peak_change_short,
+    peak_change,
     surge_sentence,
     ventilator_sentence,
 )
@@ -310,13 +310,9 @@ def brief_cells(view: ScenarioView, year: int) -> tuple[str, ...]:
     """
     m = view.with_metrics
     effect = view.item.effect
-    if not view.item.scenario.interventions:
-        measures = "No measures in this scenario"
-    elif effect.ward_peak_reduction_share is None:
-        measures = "No ward demand to lower"
-    else:
-        measures = peak_change_short(effect.ward_peak_reduction_share,
-                                     effect.ward_peak_delay_days)
+    measures = (peak_change(effect.ward_peak_reduction_share, effect.ward_peak_delay_days,
+                            form="cell")
+                if view.item.scenario.interventions else "No measures in this scenario")
     strain = tuple(text for _, text in view.strain)
     return (_bed_cell(m.ward, year), _bed_cell(m.icu, year), *strain, measures)
 
