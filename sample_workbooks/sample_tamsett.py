@@ -25,6 +25,7 @@ from sample_story import (
 from prepkit.plan import (
     AgeBand,
     Contacts,
+    DecideBy,
     Disease,
     End,
     Intervention,
@@ -165,6 +166,7 @@ def tamsett_hollow_plan() -> Plan:
         workforce=workforce,
         interventions=interventions,
         scenarios=scenarios,
+        decide_by=DecideBy(within_beds_share=0.9, delay_days=2.0),
     )
 
 
@@ -176,6 +178,7 @@ def tamsett_hollow_notes(plan: Plan) -> dict[str, str]:
     fastest = doubling.at(DOUBLING_TIME_LEVEL["high"])
     notes: dict[str, str] = {
         "details.jurisdiction": "Invented town for the prepkit demo.",
+        "decide_by.delay_days": "Invented: the town board meets within two days.",
         "mixing.assortativity": INVENTED,
         "disease.doubling_time_days": (
             f"Invented. Low is the fast end: {number(fastest)} days is the fastest spread "

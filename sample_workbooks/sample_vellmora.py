@@ -34,6 +34,7 @@ from sample_story import (
 from prepkit.plan import (
     SETTINGS,
     Contacts,
+    DecideBy,
     Disease,
     End,
     Intervention,
@@ -281,6 +282,7 @@ def vellmora_plan() -> Plan:
         interventions=interventions,
         scenarios=scenarios,
         observed=observed,
+        decide_by=DecideBy(within_beds_share=0.9, delay_days=4.0),
     )
 
 
@@ -330,6 +332,8 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "details.horizon_days": "Long enough to see the main wave through in every scenario.",
         "details.draws": INVENTED,
         "details.review_by": "Three weeks after the last local figures; invented.",
+        "decide_by.within_beds_share": "Agreed with the invented health authority.",
+        "decide_by.delay_days": "Invented: council order, then notice to employers.",
         "disease.r0": "Invented range for an influenza-like novel virus.",
         "disease.latent_period_days": INVENTED,
         "disease.infectious_period_days": INVENTED,

@@ -5,12 +5,14 @@ from __future__ import annotations
 import contextlib
 from collections.abc import Iterator
 from concurrent.futures import Executor
+from dataclasses import replace
 from typing import Any
 
 from prepkit.errors import PipelineError
 from prepkit.pipeline.progress import Steps, draws_bar
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults
+from prepkit.uncertainty.decide import SEARCH_DRAWS, decide_plan
 from prepkit.uncertainty.plan_runs import run_uncertainty
 from prepkit.uncertainty.results import UncertaintyResults
 from prepkit.uncertainty.summary_json import uncertainty_summary_dict
@@ -25,11 +27,13 @@ def run_ensemble(
     if plan.details.draws <= 0:
         return None
     steps(f"Running {plan.details.draws:,} plausible futures per scenario and variant")
-    with draws_bar(steps.interactive) as progress:
-        if scheduler is None:
-            return run_uncertainty(plan, results, progress=progress)
-        with _cluster_executor(scheduler) as executor:
-            return run_uncertainty(plan, results, progress=progress, executor=executor)
+    with contextlib.ExitStack() as stack:
+        executor = None if scheduler is None else stack.enter_context(_cluster_executor(scheduler))
+        with draws_bar(steps.interactive) as progress:
+            ensemble = run_uncertainty(plan, results, progress=progress, executor=executor)
+        steps(f"Searching the decide-by dates ({min(plan.details.draws, SEARCH_DRAWS):,} "
+              "futures at each date tried)")
+        return replace(ensemble, decisions=decide_plan(plan, executor=executor))
 
 
 #: How long to wait for a Dask scheduler to answer [s].

@@ -28,11 +28,19 @@ from prepkit.pipeline.progress import Say
 from prepkit.pipeline.summary import summary_bytes
 from prepkit.plan import Plan
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
+from prepkit.report.charts_decisions import DECIDE_CHART, decide_chart_jobs
 from prepkit.report.charts_fit import FIT_CHART, fit_chart_jobs
 from prepkit.report.render import html_to_pdf, render_html, templates_dir
 from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
+from prepkit.report.results_workbook_decide import decide_sheets
 from prepkit.report.results_workbook_fit import fit_sheets
-from prepkit.report.tables import columns_csv, daily_csv, fit_daily_csv, uncertainty_daily_csv
+from prepkit.report.tables import (
+    columns_csv,
+    daily_csv,
+    decide_csv,
+    fit_daily_csv,
+    uncertainty_daily_csv,
+)
 from prepkit.report.words.pack import FigureView, PackFigures, build_context
 from prepkit.report.words.uncertainty_text import ensemble_context
 from prepkit.report.words.views import ScenarioView, scenario_views
@@ -44,6 +52,7 @@ __all__ = ["PACK_FILES", "UNCERTAINTY_CSV", "Pack", "render_pack", "write_pack"]
 #: File of the daily uncertainty bands (only when the ensemble ran).
 UNCERTAINTY_CSV = "uncertainty-daily.csv"
 FIT_CSV = "fit-daily.csv"
+DECIDE_CSV = "decide-by.csv"
 
 #: Default output folder of ``prepkit demo``.
 DEMO_OUTDIR = Path("prepkit-demo")
@@ -107,7 +116,8 @@ def _figures(
             label=f"Figure {number}.",
         )
 
-    # the fit's page comes first, right after the leader page
+    # the decisions' page comes first, right after the leader page, then the fit's
+    decisions = view_of(by_name[DECIDE_CHART]) if DECIDE_CHART in by_name else None
     fit = view_of(by_name[FIT_CHART]) if FIT_CHART in by_name else None
     by_scenario = {}
     for view in views:
@@ -118,10 +128,11 @@ def _figures(
         view_of(chart)
         for chart in charts
         if not chart.name.startswith(("demand-scenario-", "uncertainty-"))
-        and chart.name != FIT_CHART
+        and chart.name not in (FIT_CHART, DECIDE_CHART)
     )
     uncertainty = tuple(view_of(chart) for chart in charts if chart.name.startswith("uncertainty-"))
-    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty, fit=fit)
+    return PackFigures(by_scenario=by_scenario, across=across, uncertainty=uncertainty, fit=fit,
+                       decisions=decisions)
 
 
 def render_pack(
@@ -175,12 +186,18 @@ def render_pack(
     if ensemble is not None and ensemble_words is not None:
         jobs += uncertainty_chart_jobs(plan, views, ensemble, focus=ensemble_words.focus)
     jobs += fit_chart_jobs(plan, fit)
+    jobs += decide_chart_jobs(plan, None if ensemble is None else ensemble.decisions)
     charts = tuple(run_jobs(jobs))
     listed = [*PACK_FILES, *extra_files]
     fit_csv = fit_daily_csv(plan, fit)
     if fit_csv is not None:
         listed.insert(5, (FIT_CSV, "The observed figures beside the fitted model, day by day "
                                    "(median, 50% and 90% ranges)."))
+    decisions = None if ensemble is None else ensemble.decisions
+    decide = decide_csv(plan, decisions)
+    if decide is not None:
+        listed.insert(5, (DECIDE_CSV, "Every decision date the decide-by search tried, with "
+                                      "the share of futures within beds."))
     bands_csv = uncertainty_daily_csv(ensemble)
     if bands_csv is not None:
         listed.insert(5, (UNCERTAINTY_CSV, "Daily uncertainty bands and chances of beds running "
@@ -203,6 +220,8 @@ def render_pack(
         out[UNCERTAINTY_CSV] = bands_csv
     if fit_csv is not None:
         out[FIT_CSV] = fit_csv
+    if decide is not None:
+        out[DECIDE_CSV] = decide
     for chart in charts:
         out[f"charts/{chart.name}.svg"] = chart.svg
         out[f"charts/{chart.name}.png"] = chart.png
@@ -229,7 +248,9 @@ def _documents(
         ),
         lambda: results_workbook_bytes(
             plan, results, version=__version__, generated=when,
-            extra_sheets=uncertainty_sheets(ensemble) + fit_sheets(plan, fit),
+            extra_sheets=(uncertainty_sheets(ensemble)
+                          + decide_sheets(plan, None if ensemble is None else ensemble.decisions)
+                          + fit_sheets(plan, fit)),
         ),
         lambda: render_html("pack.html.j2", html_context).encode("utf-8"),
         lambda: daily_csv(results),
@@ -242,7 +263,8 @@ def _documents(
         "daily-series.csv": daily,
         "daily-series-columns.csv": columns_csv(),
         "summary.json": summary_bytes(
-            plan, results, ensemble_summary(ensemble), when, fit=fit
+            plan, results, ensemble_summary(ensemble), when, fit=fit,
+            decisions=None if ensemble is None else ensemble.decisions,
         ),
     }
     return out

@@ -221,7 +221,8 @@ def run_to_pack(
 
     if options.summary_only:
         summary = summary_bytes(plan, results, ensemble_summary(ensemble),
-                                 generated, fit=fit)
+                                 generated, fit=fit,
+                                 decisions=None if ensemble is None else ensemble.decisions)
         _check_unchanged(workbook, digest)
         if options.summary_json is not None:
             _write_summary(options.summary_json, summary, workbook, None)

@@ -18,6 +18,8 @@ from prepkit.fitting.project import FitOutcome
 from prepkit.fitting.summary import fit_summary
 from prepkit.plan import Plan
 from prepkit.scenarios.runs import PlanResults, ScenarioRun
+from prepkit.uncertainty.decide_results import DecisionResults
+from prepkit.uncertainty.decide_summary import decisions_summary
 
 SUMMARY_VERSION = 2  # 2: deaths keys say "hospital_deaths"
 """Bumped when keys are renamed or removed."""
@@ -98,6 +100,7 @@ def summary_bytes(
     generated: dt.datetime,
     *,
     fit: FitOutcome | None = None,
+    decisions: DecisionResults | None = None,
 ) -> bytes:
     """``summary.json``: every metric, the run's details, the ensemble's summary and the fit."""
     payload = summary_dict(plan, results)
@@ -111,6 +114,8 @@ def summary_bytes(
     }
     if ensemble_summary is not None:
         payload["uncertainty"] = ensemble_summary
+    if decisions is not None:
+        payload["decisions"] = jsonable(decisions_summary(plan, decisions))
     fitted = fit_summary(fit)
     if fitted is not None:
         payload["fit"] = fitted

@@ -15,6 +15,7 @@ import datetime as dt
 from dataclasses import dataclass, field
 from typing import Literal
 
+from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import REVIEW_AFTER_DAYS, Details
 from prepkit.plan.disease import NO_BED_EXTRA_FATALITY, Disease, Severity
 from prepkit.plan.fit import FitSettings, FittedValues
@@ -29,6 +30,7 @@ __all__ = [
     "AgeBand",
     "Capacity",
     "Contacts",
+    "DecideBy",
     "Details",
     "Disease",
     "End",
@@ -261,6 +263,7 @@ class Plan:
     scenarios: tuple[Scenario, ...]
     observed: tuple[Observation, ...] = ()
     fit: FitSettings = field(default_factory=FitSettings)
+    decide_by: DecideBy = field(default_factory=DecideBy)
     standing: tuple[str, ...] = ()
     fitted: FittedValues | None = None
     source: Source = field(default_factory=Source)

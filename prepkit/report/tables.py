@@ -31,6 +31,8 @@ from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows
 from prepkit.plan import Plan
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
+from prepkit.uncertainty.decide_results import DecisionResults
+from prepkit.uncertainty.decide_summary import SEARCH_KEYS, search_rows
 from prepkit.uncertainty.results import UncertaintyResults
 
 __all__ = [
@@ -280,3 +282,22 @@ def fit_daily_csv(plan: Plan, fit: FitOutcome | None) -> bytes | None:
     return _csv_bytes(keys, ([row["date"], *("" if row[k] is None else csv_number(row[k])
                                             for k in keys[1:])]
                              for row in rows))
+
+
+def decide_csv(plan: Plan, decisions: DecisionResults | None) -> bytes | None:
+    """``decide-by.csv``: every start the decide-by search tried, with its chance within beds.
+
+    One row per scenario and tried date, the columns of
+    :data:`prepkit.uncertainty.decide_summary.SEARCH_KEYS` (shares as fractions); None
+    without a search or when no scenario had measures to move.
+    """
+    if decisions is None:
+        return None
+    rows = search_rows(plan, decisions)
+    if not rows:
+        return None
+    return _csv_bytes(list(SEARCH_KEYS), (
+        [row["scenario"], row["decision_date"], row["start_date"],
+         csv_number(row["within_beds_share_conventional"]),
+         csv_number(row["within_beds_share_contingency"])]
+        for row in rows))

@@ -9,6 +9,7 @@ from typing import Literal
 import pandas as pd
 
 from prepkit.scenarios.runs import ByScenario
+from prepkit.uncertainty.decide_results import DecisionResults
 
 Variant = Literal["with", "without"]
 
@@ -193,6 +194,9 @@ class UncertaintyResults(ByScenario[ScenarioUncertainty]):
         In plan order; empty when ``draws`` is 0.
     seconds : float
         Wall time [s].
+    decisions : DecisionResults or None
+        The decide-by dates (:func:`prepkit.uncertainty.decide.decide_plan`),
+        when they were searched.
     """
 
     draws: int
@@ -201,6 +205,7 @@ class UncertaintyResults(ByScenario[ScenarioUncertainty]):
     dimensions: tuple[str, ...]
     scenarios: tuple[ScenarioUncertainty, ...]
     seconds: float
+    decisions: DecisionResults | None = None
 
     @staticmethod
     def name_of(item: ScenarioUncertainty) -> str:

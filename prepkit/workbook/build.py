@@ -49,6 +49,7 @@ from prepkit.plan import (
     StartKind,
     Vaccination,
 )
+from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import InputRecord, Observation
@@ -226,9 +227,11 @@ def build_plan(*, items: Mapping[Key, Got], band_rows: Sequence[TableRow],
     scenarios = tuple(build_scenario(row, names, rec) for row in tables["scenarios"])
     observed = tuple(build_row(Observation, "observed", row, rec) for row in tables["observed"])
     fit = build_section(FitSettings, "fit", items, (), rec)
+    decide_by = build_section(DecideBy, "decide_by", items, (), rec)
     return Plan(details=details, bands=bands, contacts=contacts, disease=disease,
                 severity=severity, capacity=capacity, workforce=workforce,
-                interventions=interventions, scenarios=scenarios, observed=observed, fit=fit)
+                interventions=interventions, scenarios=scenarios, observed=observed, fit=fit,
+                decide_by=decide_by)
 
 
 # ---- Special cases ---------------------------------------------------------------------------

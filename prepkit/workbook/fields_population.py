@@ -5,6 +5,7 @@ Each declared once; the layout rules are in :mod:`prepkit.workbook.schema`.
 
 from __future__ import annotations
 
+from prepkit.plan.decide import DECISION_DELAY_DAYS, WITHIN_BEDS_SHARE
 from prepkit.workbook.field_types import Field
 from prepkit.workbook.sheets import (
     BAND_KEY_HELP,
@@ -52,6 +53,21 @@ POPULATION_FIELDS: tuple[Field, ...] = (
     Field(name="details.page_size", target="details.page_size",
           sheet=PLAN, label="Paper size", unit="", type="choice",
           choices=PAGE_CHOICES, default="A4", help="Paper size of the printed pack."),
+    Field(name="decide_by.within_beds_share", target="decide_by.within_beds_share",
+          sheet=PLAN, label="Futures within beds for decide-by dates", unit="%", type="share",
+          minimum=0.5, maximum=0.99, default=WITHIN_BEDS_SHARE,
+          help="The decide-by dates are the latest dates at which acting keeps ward and ICU "
+               "demand within the beds in this share of the plausible futures. Default "
+               f"{WITHIN_BEDS_SHARE:.0%}, "
+               "the 9 in 10 range the pack reports; agree the share with your health "
+               "authority."),
+    Field(name="decide_by.delay_days", target="decide_by.delay_days",
+          sheet=PLAN, label="Days from decision to effect", unit="days", type="number",
+          minimum=0, maximum=60, default=DECISION_DELAY_DAYS,
+          help="Days between a decision on the measures and their taking effect (orders "
+               "drafted, schools, employers and the public told). Each decide-by date is this "
+               f"many days before the latest start. Default {DECISION_DELAY_DAYS:g}: "
+               + TYPICAL_VALUE + "."),
     # ---- Population ---------------------------------------------------------------------
     Field(name="band.label", target="bands[].label",
           sheet=POPULATION, table="bands", label="Band", unit="",

@@ -207,10 +207,19 @@ def test_closing_report_and_progress_messages(vellmora: Rendered, tamsett: Rende
 # ---- What the PDF says --------------------------------------------------------------------------
 
 
-def test_leader_page_is_one_page_with_the_bottom_line_first(pack: Rendered) -> None:
+def test_leader_page_has_the_bottom_line_first_then_the_decisions(pack: Rendered) -> None:
+    # The first leader page: bottom line, decisions and dates (with an ensemble), the scenario
+    # table and the caution; what the measures change and how certain this is follow on the
+    # next page when the decisions take the room.
     page = next(i for i, text in enumerate(pack.pages) if "Summary for leaders" in text
                 and "BOTTOM LINE" in text)
     leader = flat(pack.pages[page])
+    both = flat(pack.pages[page] + " " + pack.pages[page + 1])
+    summary = json.loads((pack.outdir / "summary.json").read_text(encoding="utf-8"))
+    assert ("decisions" in summary) == ("uncertainty" in summary)  # the town's runs without
+    if "decisions" in summary:
+        assert "DECISIONS AND DATES" in leader
+        assert leader.index("DECISIONS AND DATES") > leader.index("BOTTOM LINE")
     views = pack.views
     first = leader.index("BOTTOM LINE")
     for sentence in bottom_line(views):
@@ -223,12 +232,12 @@ def test_leader_page_is_one_page_with_the_bottom_line_first(pack: Rendered) -> N
             assert flat(cell) in leader
     headline = measures_headline(views)
     assert headline is not None
-    assert flat(headline_measures_text(headline)) in leader
+    assert flat(headline_measures_text(headline)) in both
     assert "Read with care" in leader and flat(CAUTION_LINE) in leader
 
 
 def test_leader_certainty_comes_from_the_ensemble(vellmora: Rendered, tamsett: Rendered) -> None:
-    leader = flat(vellmora.pages[1])
+    leader = flat(vellmora.pages[1] + " " + vellmora.pages[2])
     assert f"run {ENSEMBLE_DRAWS:,} times" in leader
     assert "plausible futures of" in leader
     town = flat(tamsett.pages[1])

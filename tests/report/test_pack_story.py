@@ -7,6 +7,7 @@ the PDF text.
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 import re
 import shutil
@@ -284,3 +285,44 @@ def test_no_observations_no_sentence(town: tuple[_Text, Path, object]) -> None:
     parsed, _, plan = town
     assert not plan.observed  # type: ignore[attr-defined]
     assert "Observed on" not in " ".join(" ".join(t) for t in parsed.sections.values())
+
+
+# ---- Decisions and dates ------------------------------------------------------------------------
+
+_VERDICT_OPENINGS = {
+    "date": "Decide ",
+    "too_late": "Too late: ",
+    "not_enough": "No date is enough: ",
+    "not_needed": "Not needed for beds: ",
+    "no_measures": "Nothing to ",
+}
+
+
+def test_the_leader_page_shows_the_decide_by_dates_of_summary_json(
+    city: tuple[_Text, Path, object],
+) -> None:
+    # Every number that appears twice agrees (common practice, no source): the leader's
+    # decisions table says each scenario's verdict and date as summary.json and results.xlsx
+    # hold them.
+    parsed, pack, plan = city
+    decisions = json.loads((pack / "summary.json").read_text(encoding="utf-8"))["decisions"]
+    rows = [row for row, where in zip(parsed.rows, parsed.row_sections, strict=True)
+            if where == "decisions" and len(row) == 4]
+    leader = [row for row, where in zip(parsed.rows, parsed.row_sections, strict=True)
+              if where == "summary" and row[0] in {s["scenario"] for s in decisions["scenarios"]}]
+    by_name = {row[0]: row for row in rows}
+    assert "Decisions and dates" in parsed.section("summary").replace("DECISIONS", "Decisions")
+    sheet = openpyxl.load_workbook(pack / "results.xlsx", read_only=True)["Decide-by"]
+    sheet_rows = {r[0]: r for r in sheet.iter_rows(min_row=4, values_only=True) if r[0]}
+    for item in decisions["scenarios"]:
+        cell = by_name[item["scenario"]][1]
+        assert cell.startswith(_VERDICT_OPENINGS[item["measures_verdict"]]), cell
+        latest = item["latest_decision_date"]
+        if latest is not None:
+            shown = format_date(dt.date.fromisoformat(latest), year=False)
+            assert shown in cell
+        assert sheet_rows[item["scenario"]][5] == item["measures_verdict"]
+        if latest is not None:  # the leader's short cells give the same date
+            assert any(shown in " ".join(row) for row in leader if row[0] == item["scenario"])
+    assert decisions["ensemble_runs_count"] > len(decisions["scenarios"])
+    assert "decide-by.csv" in {p.name for p in pack.iterdir()}

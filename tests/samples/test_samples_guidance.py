@@ -45,6 +45,7 @@ NEUTRAL_DEFAULTS = {
     "details.page_size": "a run setting",
     "details.observed_period": "how the planner's figures are kept",
     "fit.method": "a choice",
+    "decide_by.within_beds_share": "a policy choice, agreed with the health authority",
     "fit.change_factor": "1: no change",
     "fit.initial_infections_factor": "a run setting: how widely the fit searches",
     "band_contacts.home_share": "0%: the rest are community contacts",

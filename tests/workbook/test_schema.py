@@ -7,6 +7,7 @@ import dataclasses
 import pytest
 
 import prepkit.plan as plan_module
+from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
 from prepkit.plan.resources import Capacity, Workforce
@@ -117,6 +118,7 @@ def test_item_fields_map_onto_plan_attributes() -> None:
         "details": Details, "mixing": plan_module.Contacts,
         "disease": plan_module.Disease, "severity": plan_module.Severity,
         "capacity": Capacity, "workforce": Workforce, "fit": FitSettings,
+        "decide_by": DecideBy,
     }
     for f in FIELDS:
         if f.table is None:

@@ -8,6 +8,7 @@ import typing
 import pytest
 
 from prepkit.plan import AgeBand, Contacts, Disease, Intervention, Plan, Scenario, Severity
+from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import Observation
@@ -21,7 +22,7 @@ SECTIONS: dict[str, type] = {
     "details": Details, "bands": AgeBand, "contacts": Contacts, "disease": Disease,
     "severity": Severity, "capacity": Capacity, "workforce": Workforce,
     "interventions": Intervention, "scenarios": Scenario, "observed": Observation,
-    "fit": FitSettings,
+    "fit": FitSettings, "decide_by": DecideBy,
 }
 
 

@@ -11,6 +11,7 @@ from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
 from prepkit.report.words.assumptions import assumption_groups
 from prepkit.report.words.comparison import MEASURE_NAMES, comparison_tables, transmissibility_rows
+from prepkit.report.words.decisions import DECISION_HEADS, DETAIL_HEADS, decision_words
 from prepkit.report.words.fit_text import fit_context, fit_leader_line
 from prepkit.report.words.formatting import format_date, format_days, format_number
 from prepkit.report.words.leader import (
@@ -114,12 +115,15 @@ class PackFigures:
         Ensemble charts (empty when no ensemble was run).
     fit : FigureView or None
         The observed figures against the fitted model (None without a fit).
+    decisions : FigureView or None
+        The chance of staying within beds by decision date (None without a search).
     """
 
     by_scenario: Mapping[int, FigureView] = field(default_factory=dict)
     across: tuple[FigureView, ...] = ()
     uncertainty: tuple[FigureView, ...] = ()
     fit: FigureView | None = None
+    decisions: FigureView | None = None
 
 
 def build_context(
@@ -191,6 +195,9 @@ def build_context(
         "bottom_line": bottom_line(views),
         "observed_flag": flag,
         "fit": fit_words,
+        "decide": decision_words(plan, None if uncertainty is None else uncertainty.decisions),
+        "decide_heads": DECISION_HEADS,
+        "decide_detail_heads": DETAIL_HEADS,
         "as_of": as_of,
         "review": review_words(plan, generated),
         "deaths_note": deaths_note(views, uncertainty, plan.severity),
