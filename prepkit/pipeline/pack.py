@@ -9,6 +9,7 @@ and the tagged PDF, the results workbook, the CSV files and the JSON summary;
 from __future__ import annotations
 
 import datetime as dt
+import json
 import re
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
@@ -20,27 +21,32 @@ import markupsafe
 from prepkit import __version__
 from prepkit.base.files import source_date
 from prepkit.fitting.project import FitOutcome
+from prepkit.pipeline.changes import PreviousPack
 from prepkit.pipeline.ensemble import ensemble_summary
 from prepkit.pipeline.jobs import run_jobs
 from prepkit.pipeline.manifest import MANIFEST_NAME
 from prepkit.pipeline.outputs import AtomicOutputDir
 from prepkit.pipeline.progress import Say
-from prepkit.pipeline.summary import summary_bytes
+from prepkit.pipeline.summary import json_bytes, summary_payload
 from prepkit.plan import Plan
+from prepkit.report.changes import INPUTS_NAME, PackChanges, compare_packs, inputs_payload
 from prepkit.report.charts import Chart, chart_jobs, uncertainty_chart_jobs
 from prepkit.report.charts_decisions import DECIDE_CHART, decide_chart_jobs
 from prepkit.report.charts_fit import FIT_CHART, fit_chart_jobs
 from prepkit.report.render import html_to_pdf, render_html, templates_dir
 from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_sheets
+from prepkit.report.results_workbook_changes import CHANGES_CSV, changes_sheets
 from prepkit.report.results_workbook_decide import decide_sheets
 from prepkit.report.results_workbook_fit import fit_sheets
 from prepkit.report.tables import (
+    changes_csv,
     columns_csv,
     daily_csv,
     decide_csv,
     fit_daily_csv,
     uncertainty_daily_csv,
 )
+from prepkit.report.words.changes import ChangeWords, change_words
 from prepkit.report.words.pack import FigureView, PackFigures, build_context
 from prepkit.report.words.uncertainty_text import ensemble_context
 from prepkit.report.words.views import ScenarioView, scenario_views
@@ -65,6 +71,8 @@ PACK_FILES: tuple[tuple[str, str], ...] = (
     ("daily-series.csv", "Every daily series of every scenario, with and without measures."),
     ("daily-series-columns.csv", "Unit and meaning of each column of daily-series.csv."),
     ("summary.json", "Every metric of every scenario and variant, for other software."),
+    (INPUTS_NAME, "Every input as read, cell by cell: the next pack in this folder lists "
+                  "what changed since."),
     ("charts/*.svg, charts/*.png", "Each chart as a drawing (SVG) and a picture for slides (PNG)."),
     (MANIFEST_NAME, "Name, size and SHA-256 of every file, to check the pack is whole."),
 )
@@ -145,6 +153,7 @@ def render_pack(
     notes: Sequence[str] = (),
     say: Say | None = None,
     fit: FitOutcome | None = None,
+    previous: PreviousPack | None = None,
 ) -> Pack:
     """Make every file of the briefing pack in memory.
 
@@ -171,6 +180,10 @@ def render_pack(
         What came of fitting the plan to its observed figures
         (:func:`prepkit.fitting.project.fit_stage`); ``plan`` is then the plan
         the projections ran.
+    previous : PreviousPack, optional
+        The pack that was in the output folder
+        (:func:`prepkit.pipeline.changes.previous_pack`): the new pack then
+        lists what changed since.
 
     Returns
     -------
@@ -202,12 +215,24 @@ def render_pack(
     if bands_csv is not None:
         listed.insert(5, (UNCERTAINTY_CSV, "Daily uncertainty bands and chances of beds running "
                                            "short, every scenario and variant."))
+    inputs = inputs_payload(plan)
+    summary = summary_payload(plan, results, ensemble_summary(ensemble), when, fit=fit,
+                              decisions=decisions)
+    changes = _changes(previous, inputs, summary)
+    changed_csv = changes_csv(changes)
+    if changes is not None:
+        summary["changes_since_last_pack"] = changes.summary()
+    if changed_csv is not None:
+        listed.insert(5, (CHANGES_CSV, "Every input that changed since the earlier pack in this "
+                                       "folder: sheet, cell, old and new value."))
+    words = change_words(changes)
     # The PDF gets the PNG copies: weasyprint lays out a PNG about ten times
     # faster than an SVG chart, and at 200 dpi it prints sharply. The HTML
     # page gets the SVG copies, which stay sharp at any zoom.
     base = build_context(
         plan, results, figures=_figures(views, charts, "png"), version=__version__,
         generated=when, files=listed, uncertainty=ensemble, notes=notes, fit=fit,
+        changes=words,
     )
     html_context = {
         **base,
@@ -215,7 +240,12 @@ def render_pack(
         "inline_css": markupsafe.Markup(_standalone_css()),
     }
     tell("Writing the briefing pack, the results workbook and the data files")
-    out = _documents(plan, results, ensemble, base, html_context, when, fit)
+    out = _documents(plan, results, ensemble, base, html_context, when, fit,
+                     changes=(changes, words))
+    out["summary.json"] = json_bytes(summary)
+    out[INPUTS_NAME] = json_bytes(inputs)
+    if changed_csv is not None:
+        out[CHANGES_CSV] = changed_csv
     if bands_csv is not None:
         out[UNCERTAINTY_CSV] = bands_csv
     if fit_csv is not None:
@@ -228,6 +258,16 @@ def render_pack(
     return Pack(files=out, charts=tuple(charts), title=plan.details.title)
 
 
+def _changes(previous: PreviousPack | None, inputs: Mapping[str, Any],
+             summary: Mapping[str, Any]) -> PackChanges | None:
+    """The comparison with the earlier pack; None without one or when nothing changed."""
+    if previous is None:
+        return None
+    # compared as the files hold them: the new summary through JSON, as the old one was read
+    changes = compare_packs(previous.inputs, previous.summary, inputs,
+                            json.loads(json_bytes(summary)))
+    return changes if changes.any else None
+
 
 def _documents(
     plan: Plan,
@@ -237,8 +277,10 @@ def _documents(
     html_context: Mapping[str, Any],
     when: dt.datetime,
     fit: FitOutcome | None,
+    *,
+    changes: tuple[PackChanges | None, ChangeWords | None],
 ) -> dict[str, bytes]:
-    """The pack's documents and data files: PDF, HTML, results workbook, CSV and JSON."""
+    """The pack's documents and daily CSV files: PDF, HTML, results workbook."""
     title = f"{plan.details.title} ({plan.details.jurisdiction})"
     # The PDF is the slowest document; the others are written beside it.
     documents: list[Callable[[], bytes]] = [
@@ -250,7 +292,8 @@ def _documents(
             plan, results, version=__version__, generated=when,
             extra_sheets=(uncertainty_sheets(ensemble)
                           + decide_sheets(plan, None if ensemble is None else ensemble.decisions)
-                          + fit_sheets(plan, fit)),
+                          + fit_sheets(plan, fit)
+                          + changes_sheets(changes[0], changes[1].since if changes[1] else "")),
         ),
         lambda: render_html("pack.html.j2", html_context).encode("utf-8"),
         lambda: daily_csv(results),
@@ -262,10 +305,6 @@ def _documents(
         "results.xlsx": xlsx,
         "daily-series.csv": daily,
         "daily-series-columns.csv": columns_csv(),
-        "summary.json": summary_bytes(
-            plan, results, ensemble_summary(ensemble), when, fit=fit,
-            decisions=None if ensemble is None else ensemble.decisions,
-        ),
     }
     return out
 

@@ -31,6 +31,7 @@ from pathlib import Path
 from prepkit.base.files import atomic_write_bytes, source_date
 from prepkit.errors import InputChangedError
 from prepkit.fitting.project import fit_stage
+from prepkit.pipeline.changes import previous_pack
 from prepkit.pipeline.ensemble import ensemble_summary, run_ensemble
 from prepkit.pipeline.first_use import first_use_note
 from prepkit.pipeline.guard import check_draws_option, check_ensemble_memory
@@ -38,7 +39,7 @@ from prepkit.pipeline.manifest import file_sha256
 from prepkit.pipeline.outputs_guard import check_pack_folder, check_summary_path
 from prepkit.pipeline.pack_folder import check_output_dir
 from prepkit.pipeline.progress import Say, Steps
-from prepkit.pipeline.summary import summary_bytes
+from prepkit.pipeline.summary import json_bytes, summary_payload
 from prepkit.plan import Plan
 from prepkit.report.words.leader import CAUTION_LINE, bottom_line
 from prepkit.report.words.review import review_words
@@ -196,6 +197,7 @@ def run_to_pack(
     check_draws_option(options.draws)
     if pack_dir is not None:
         check_outdir(pack_dir, workbook, force=options.force)
+    previous = previous_pack(pack_dir)  # the earlier pack, for the page of changes
     if options.summary_json is not None:
         check_summary_path(options.summary_json, workbook=workbook, outdir=pack_dir)
     steps(f"Reading {workbook.name}")
@@ -220,9 +222,9 @@ def run_to_pack(
     ensemble = run_ensemble(plan, results, steps, options.scheduler)
 
     if options.summary_only:
-        summary = summary_bytes(plan, results, ensemble_summary(ensemble),
-                                 generated, fit=fit,
-                                 decisions=None if ensemble is None else ensemble.decisions)
+        summary = json_bytes(summary_payload(
+            plan, results, ensemble_summary(ensemble), generated, fit=fit,
+            decisions=None if ensemble is None else ensemble.decisions))
         _check_unchanged(workbook, digest)
         if options.summary_json is not None:
             _write_summary(options.summary_json, summary, workbook, None)
@@ -232,7 +234,7 @@ def run_to_pack(
     from prepkit.pipeline.pack import render_pack, write_pack
 
     pack = render_pack(plan, results, ensemble=ensemble, generated=generated, say=steps,
-                       extra_files=extra_files, notes=notes, fit=fit)
+                       extra_files=extra_files, notes=notes, fit=fit, previous=previous)
     steps(f"Saving the pack to {outdir}")
     written = write_pack(
         outdir, pack, before_commit=lambda: _check_unchanged(workbook, digest), extra=extra,

@@ -93,7 +93,7 @@ def summary_dict(plan: Plan, results: PlanResults) -> dict[str, Any]:
     }
 
 
-def summary_bytes(
+def summary_payload(
     plan: Plan,
     results: PlanResults,
     ensemble_summary: dict[str, Any] | None,
@@ -101,8 +101,8 @@ def summary_bytes(
     *,
     fit: FitOutcome | None = None,
     decisions: DecisionResults | None = None,
-) -> bytes:
-    """``summary.json``: every metric, the run's details, the ensemble's summary and the fit."""
+) -> dict[str, Any]:
+    """``summary.json`` as a dictionary: every metric, the run, the ensemble, decisions, fit."""
     payload = summary_dict(plan, results)
     payload["run"] = {
         "prepkit_version": __version__,
@@ -119,4 +119,10 @@ def summary_bytes(
     fitted = fit_summary(fit)
     if fitted is not None:
         payload["fit"] = fitted
+    return payload
+
+
+def json_bytes(payload: Any) -> bytes:
+    """A JSON file of the pack: indented, UTF-8, no NaN, ending with a newline."""
     return (json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()
+

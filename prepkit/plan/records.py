@@ -89,6 +89,10 @@ class InputRecord:
         Unit as shown to a reader.
     defaulted : bool
         True when the cell was blank and the default was used.
+    levels : tuple of (str, str, str)
+        For an input with Low, Central and High values: each level's name
+        (``low``, ``central``, ``high``), cell and value as shown; empty
+        otherwise.
     """
 
     sheet: str
@@ -98,6 +102,7 @@ class InputRecord:
     value: str
     unit: str
     defaulted: bool = False
+    levels: tuple[tuple[str, str, str], ...] = ()
 
 
 @dataclass(frozen=True, kw_only=True)

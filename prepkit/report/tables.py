@@ -29,6 +29,7 @@ import pandas as pd
 from prepkit.fitting.project import FitOutcome
 from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows
 from prepkit.plan import Plan
+from prepkit.report.changes import CHANGE_KEYS, PackChanges
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
 from prepkit.uncertainty.decide_results import DecisionResults
@@ -301,3 +302,16 @@ def decide_csv(plan: Plan, decisions: DecisionResults | None) -> bytes | None:
          csv_number(row["within_beds_share_conventional"]),
          csv_number(row["within_beds_share_contingency"])]
         for row in rows))
+
+
+def changes_csv(changes: PackChanges | None) -> bytes | None:
+    """``changes-since-last-pack.csv``: every input that changed, one row per cell.
+
+    The columns of :data:`prepkit.report.changes.CHANGE_KEYS`, values as the
+    pack shows them; None without an earlier pack, when it kept no inputs or
+    when no input changed.
+    """
+    if changes is None or not changes.inputs:
+        return None
+    return _csv_bytes(list(CHANGE_KEYS), ([safe_csv_text(value) for value in c.row().values()]
+                                          for c in changes.inputs))

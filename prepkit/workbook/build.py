@@ -116,6 +116,8 @@ class Recorder:
             sheet=central.sheet, cell=central.cell, name=name,
             label=field_label(f, None, noun, key), value=shown, unit=f.unit,
             defaulted=central.defaulted,
+            levels=tuple((level, got.cell, format_value(f, _float(got.value)))
+                         for level, got in zip(LEVELS, (low, central, high), strict=True)),
         )))
         return value
 

@@ -10,6 +10,7 @@ from typing import Any
 from prepkit.fitting.project import FitOutcome
 from prepkit.plan import Plan
 from prepkit.report.words.assumptions import assumption_groups
+from prepkit.report.words.changes import ChangeWords
 from prepkit.report.words.comparison import MEASURE_NAMES, comparison_tables, transmissibility_rows
 from prepkit.report.words.decisions import DECISION_HEADS, DETAIL_HEADS, decision_words
 from prepkit.report.words.fit_text import fit_context, fit_leader_line
@@ -138,6 +139,7 @@ def build_context(
     notes: Sequence[str] = (),
     inline_css: str | None = None,
     fit: FitOutcome | None = None,
+    changes: ChangeWords | None = None,
 ) -> dict[str, Any]:
     """Variables of ``pack.html.j2``.
 
@@ -166,6 +168,9 @@ def build_context(
     fit : FitOutcome, optional
         What came of fitting the plan to its observed figures; ``plan`` is
         then the plan the projections ran.
+    changes : ChangeWords, optional
+        What changed since the earlier pack in the output folder
+        (:func:`prepkit.report.words.changes.change_words`); None shows no such page.
 
     Returns
     -------
@@ -219,6 +224,7 @@ def build_context(
         "limitations": limitations(plan, ensemble=ensemble is not None),
         "files": tuple(files),
         "notes": tuple(notes),
+        "changes": changes,
     }
 
 
