@@ -37,7 +37,7 @@ from prepkit.plan import (
     Start,
 )
 from prepkit.plan.details import Details
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 from prepkit.simulation.inputs import DOUBLING_TIME_LEVEL
 
 TAMSETT_BANDS = (
@@ -108,6 +108,8 @@ def tamsett_hollow_plan() -> Plan:
         surge_days_to_open=3.0,
         surge_trigger_occupancy=0.85,
         catchment_share=0.70,
+        crisis_ward_beds=4,
+        crisis_icu_beds=1,
     )
     workforce = Workforce(
         working_age_min=18,
@@ -167,6 +169,8 @@ def tamsett_hollow_plan() -> Plan:
         interventions=interventions,
         scenarios=scenarios,
         decide_by=DecideBy(within_beds_share=0.9, delay_days=2.0),
+        supplies=Supplies(oxygen_supply_lpm=60.0, gowns_stock=800.0,
+                          gowns_resupply_per_day=40.0, mortuary_spaces=4),
     )
 
 
@@ -179,6 +183,12 @@ def tamsett_hollow_notes(plan: Plan) -> dict[str, str]:
     notes: dict[str, str] = {
         "details.jurisdiction": "Invented town for the prepkit demo.",
         "decide_by.delay_days": "Invented: the town board meets within two days.",
+        "capacity.crisis_ward_beds": "Invented: the clinic's day room.",
+        "capacity.crisis_icu_beds": "Invented: one monitored bay in recovery.",
+        "supplies.oxygen_supply_lpm": "Invented: the community hospital's oxygen plant.",
+        "supplies.gowns_stock": INVENTED,
+        "supplies.gowns_resupply_per_day": INVENTED,
+        "supplies.mortuary_spaces": "Invented: the hospital and the town's funeral home.",
         "mixing.assortativity": INVENTED,
         "disease.doubling_time_days": (
             f"Invented. Low is the fast end: {number(fastest)} days is the fastest spread "

@@ -50,7 +50,7 @@ from prepkit.plan import (
 )
 from prepkit.plan.details import Details
 from prepkit.plan.records import Observation
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 
 VELLMORA_PEOPLE = (
     13_400, 14_100, 14_600, 15_200, 17_900, 19_300, 18_800, 17_600,
@@ -192,6 +192,8 @@ def vellmora_plan() -> Plan:
         surge_days_to_open=7.0,
         surge_trigger_occupancy=0.85,
         catchment_share=0.92,
+        crisis_ward_beds=60,
+        crisis_icu_beds=10,
     )
     workforce = Workforce(
         working_age_min=18,
@@ -283,6 +285,11 @@ def vellmora_plan() -> Plan:
         scenarios=scenarios,
         observed=observed,
         decide_by=DecideBy(within_beds_share=0.9, delay_days=4.0),
+        supplies=Supplies(ward_nurses=120.0, icu_nurses=50.0, oxygen_supply_lpm=900.0,
+                          gowns_stock=20_000.0, gowns_resupply_per_day=1_500.0,
+                          gloves_stock=150_000.0, gloves_resupply_per_day=12_000.0,
+                          respirators_stock=8_000.0, respirators_resupply_per_day=800.0,
+                          mortuary_spaces=40),
     )
 
 
@@ -334,6 +341,18 @@ def vellmora_notes(plan: Plan) -> dict[str, str]:
         "details.review_by": "Three weeks after the last local figures; invented.",
         "decide_by.within_beds_share": "Agreed with the invented health authority.",
         "decide_by.delay_days": "Invented: council order, then notice to employers.",
+        "capacity.crisis_ward_beds": "Invented: day-surgery halls of the three hospitals.",
+        "capacity.crisis_icu_beds": "Invented: recovery bays with ventilators.",
+        "supplies.ward_nurses": "Invented: nurses per shift on the acute wards.",
+        "supplies.icu_nurses": "Invented: fewer ICU nurses than ICU beds, as often in winter.",
+        "supplies.oxygen_supply_lpm": "Invented: the three sites' tanks and pipes together.",
+        "supplies.gowns_stock": INVENTED,
+        "supplies.gowns_resupply_per_day": INVENTED,
+        "supplies.gloves_stock": INVENTED,
+        "supplies.gloves_resupply_per_day": INVENTED,
+        "supplies.respirators_stock": INVENTED,
+        "supplies.respirators_resupply_per_day": INVENTED,
+        "supplies.mortuary_spaces": "Invented: the three hospital mortuaries.",
         "disease.r0": "Invented range for an influenza-like novel virus.",
         "disease.latent_period_days": INVENTED,
         "disease.infectious_period_days": INVENTED,

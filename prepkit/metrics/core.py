@@ -22,7 +22,8 @@ import pandas as pd
 from prepkit.metrics.beds import bed_patients, bed_supply, shortage_deaths, strain_limits
 from prepkit.metrics.capacity import BedMetrics, VentilatorMetrics, bed_metrics, ventilator_metrics
 from prepkit.metrics.peaks import peak
-from prepkit.plan import Capacity
+from prepkit.metrics.resources import ResourceGap, resource_gaps
+from prepkit.plan import Capacity, Supplies
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -49,7 +50,10 @@ class ScenarioMetrics:
     ``total.hospital_deaths_persons`` are the deaths in hospital care, as if
     every patient had a bed; ``shortage_deaths_persons`` the additional deaths
     when beds run short (``_with_surge``: once surge beds are open), rule of
-    :func:`prepkit.metrics.beds.shortage_deaths`.
+    :func:`prepkit.metrics.beds.shortage_deaths`. ``resources`` is the need
+    against supply of beds at three levels and after staff absence,
+    ventilators, oxygen, protective equipment and mortuary spaces
+    (:func:`prepkit.metrics.resources.resource_gaps`).
     """
 
     total: BurdenTotals
@@ -67,6 +71,7 @@ class ScenarioMetrics:
     ventilators: VentilatorMetrics
     shortage_deaths_persons: float
     shortage_deaths_with_surge_persons: float
+    resources: tuple[ResourceGap, ...] = ()
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -103,6 +108,7 @@ def scenario_metrics(
     population: float,
     capacity: Capacity,
     extra_fatality: Mapping[str, float],
+    supplies: Supplies | None = None,
 ) -> ScenarioMetrics:
     """All metrics of one scenario variant.
 
@@ -121,6 +127,10 @@ def scenario_metrics(
     extra_fatality : mapping of str to float
         Added chance of death without a bed, by bed type (``"ward"``,
         ``"icu"``) [fraction].
+    supplies : Supplies, optional
+        Staff and supplies; with them (and the columns of
+        :func:`prepkit.metrics.resources.add_resource_columns` in ``daily``)
+        the metrics hold the resource gaps.
 
     Returns
     -------
@@ -156,6 +166,7 @@ def scenario_metrics(
         ventilators=ventilator_metrics(daily, capacity),
         shortage_deaths_persons=float(shortage_deaths(unserved, extra_fatality)),
         shortage_deaths_with_surge_persons=float(shortage_deaths(unserved_surge, extra_fatality)),
+        resources=() if supplies is None else resource_gaps(daily, capacity, supplies),
     )
 
 

@@ -38,12 +38,14 @@ from prepkit.report.results_workbook import results_workbook_bytes, uncertainty_
 from prepkit.report.results_workbook_changes import CHANGES_CSV, changes_sheets
 from prepkit.report.results_workbook_decide import decide_sheets
 from prepkit.report.results_workbook_fit import fit_sheets
+from prepkit.report.results_workbook_resources import resource_sheets
 from prepkit.report.tables import (
     changes_csv,
     columns_csv,
     daily_csv,
     decide_csv,
     fit_daily_csv,
+    resources_csv,
     uncertainty_daily_csv,
 )
 from prepkit.report.words.changes import ChangeWords, change_words
@@ -70,6 +72,8 @@ PACK_FILES: tuple[tuple[str, str], ...] = (
     ("results.xlsx", "Results workbook: summary, daily series, Excel charts, every input."),
     ("daily-series.csv", "Every daily series of every scenario, with and without measures."),
     ("daily-series-columns.csv", "Unit and meaning of each column of daily-series.csv."),
+    ("resources.csv", "Need against supply of beds at three levels and after staff absence, "
+                      "ventilators, oxygen, protective equipment and mortuary spaces."),
     ("summary.json", "Every metric of every scenario and variant, for other software."),
     (INPUTS_NAME, "Every input as read, cell by cell: the next pack in this folder lists "
                   "what changed since."),
@@ -290,7 +294,7 @@ def _documents(
         ),
         lambda: results_workbook_bytes(
             plan, results, version=__version__, generated=when,
-            extra_sheets=(uncertainty_sheets(ensemble)
+            extra_sheets=(resource_sheets(results) + uncertainty_sheets(ensemble)
                           + decide_sheets(plan, None if ensemble is None else ensemble.decisions)
                           + fit_sheets(plan, fit)
                           + changes_sheets(changes[0], changes[1].since if changes[1] else "")),
@@ -305,6 +309,7 @@ def _documents(
         "results.xlsx": xlsx,
         "daily-series.csv": daily,
         "daily-series-columns.csv": columns_csv(),
+        "resources.csv": resources_csv(results),
     }
     return out
 

@@ -21,7 +21,7 @@ from prepkit.plan.disease import NO_BED_EXTRA_FATALITY, Disease, Severity
 from prepkit.plan.fit import FitSettings, FittedValues
 from prepkit.plan.ranges import LEVELS, Level, Range3
 from prepkit.plan.records import Observation, Source
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 
 __all__ = [
     "LEVELS",
@@ -51,6 +51,7 @@ __all__ = [
     "Start",
     "StartKind",
     "Vaccination",
+    "Supplies",
     "Workforce",
 ]
 
@@ -264,6 +265,7 @@ class Plan:
     observed: tuple[Observation, ...] = ()
     fit: FitSettings = field(default_factory=FitSettings)
     decide_by: DecideBy = field(default_factory=DecideBy)
+    supplies: Supplies = field(default_factory=Supplies)
     standing: tuple[str, ...] = ()
     fitted: FittedValues | None = None
     source: Source = field(default_factory=Source)

@@ -21,9 +21,9 @@ from prepkit.report.results_workbook_layout import (
     header_row,
     table_name,
     title_cell,
+    write_records,
 )
 from prepkit.report.results_workbook_uncertainty import SheetWriter
-from prepkit.report.safety import write_text_row
 
 __all__ = ["CHANGE_COLUMNS", "CHANGES_CSV", "FIGURE_COLUMNS", "changes_sheets"]
 
@@ -80,10 +80,7 @@ def _sheet(wb: Workbook, page: PageInfo, columns: SheetColumns, title: str,
     ws = wb.create_sheet(columns.sheet)
     title_cell(ws, title, size="normal")
     header_row(ws, HEADER_ROW, columns)
-    last = HEADER_ROW
-    for record in rows:
-        last += 1
-        write_text_row(ws, last, [str(record[c.name]) for c in columns.columns])
+    last = write_records(ws, HEADER_ROW, columns, rows)
     finish_sheet(ws, page, subject=columns.sheet, title_rows=(HEADER_ROW, HEADER_ROW),
                  last_row=last, last_col=len(columns.columns), freeze=f"A{HEADER_ROW + 1}",
                  table=table_name(columns.sheet) if rows else None)

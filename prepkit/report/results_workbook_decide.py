@@ -7,9 +7,6 @@ the columns are declared here once, in the order of its keys.
 
 from __future__ import annotations
 
-import datetime as dt
-from typing import Any
-
 from openpyxl import Workbook
 
 from prepkit.plan import Plan
@@ -27,12 +24,11 @@ from prepkit.report.results_workbook_layout import (
     PageInfo,
     finish_sheet,
     header_row,
-    put,
     table_name,
     title_cell,
+    write_records,
 )
 from prepkit.report.results_workbook_uncertainty import SheetWriter
-from prepkit.report.safety import write_text_row
 from prepkit.uncertainty.decide_results import DecisionResults
 from prepkit.uncertainty.decide_summary import (
     DECISION_KEYS,
@@ -124,25 +120,6 @@ assert tuple(c.name for c in DECIDE_COLUMNS.columns) == DECISION_KEYS
 assert tuple(c.name for c in DECIDE_SEARCH_COLUMNS.columns) == SEARCH_KEYS
 
 
-def _cell_value(value: Any, number_format: str) -> Any:
-    if number_format == DATE and isinstance(value, str):
-        return dt.date.fromisoformat(value)
-    return value
-
-
-def _write_rows(ws: Any, columns: SheetColumns, rows: list[dict[str, Any]]) -> int:
-    row = HEADER_ROW
-    for record in rows:
-        row += 1
-        for col, c in enumerate(columns.columns, start=1):
-            value = record[c.name]
-            if c.number_format == TEXT:
-                write_text_row(ws, row, ["" if value is None else str(value)], start_col=col)
-            else:
-                put(ws, row, col, _cell_value(value, c.number_format), c.number_format)
-    return row
-
-
 def decide_sheets(plan: Plan, decisions: DecisionResults | None) -> tuple[SheetWriter, ...]:
     """Writers of the "Decide-by" sheets; none without a search."""
     if decisions is None or not decisions.scenarios:
@@ -157,7 +134,7 @@ def decide_sheets(plan: Plan, decisions: DecisionResults | None) -> tuple[SheetW
                        f"the plausible futures within beds; decisions take effect "
                        f"{decisions.delay_days} days later", size="normal")
         header_row(ws, HEADER_ROW, DECIDE_COLUMNS)
-        last = _write_rows(ws, DECIDE_COLUMNS, rows)
+        last = write_records(ws, HEADER_ROW, DECIDE_COLUMNS, rows)
         finish_sheet(ws, page, subject="Decide-by dates", title_rows=(HEADER_ROW, HEADER_ROW),
                      last_row=last, last_col=len(DECIDE_COLUMNS.columns),
                      freeze=f"B{HEADER_ROW + 1}", table=table_name(DECIDE_COLUMNS.sheet))
@@ -168,7 +145,7 @@ def decide_sheets(plan: Plan, decisions: DecisionResults | None) -> tuple[SheetW
         title_cell(ws, f"Every start tried, on {decisions.draws:,} futures each",
                    size="normal")
         header_row(ws, HEADER_ROW, DECIDE_SEARCH_COLUMNS)
-        last = _write_rows(ws, DECIDE_SEARCH_COLUMNS, tried)
+        last = write_records(ws, HEADER_ROW, DECIDE_SEARCH_COLUMNS, tried)
         finish_sheet(ws, page, subject="Decide-by dates tried",
                      title_rows=(HEADER_ROW, HEADER_ROW), last_row=last,
                      last_col=len(DECIDE_SEARCH_COLUMNS.columns), freeze=f"B{HEADER_ROW + 1}",

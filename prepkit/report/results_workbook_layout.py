@@ -18,7 +18,7 @@ import datetime as dt
 import math
 import re
 import textwrap
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -28,7 +28,7 @@ from openpyxl.worksheet.table import Table, TableStyleInfo
 from openpyxl.worksheet.worksheet import Worksheet
 
 from prepkit.plan import Plan
-from prepkit.report.results_workbook_columns import TEXT, SheetColumns
+from prepkit.report.results_workbook_columns import DATE, TEXT, SheetColumns
 from prepkit.report.safety import write_text_cell, write_text_row
 
 __all__ = [
@@ -345,3 +345,41 @@ def finish_sheet(
                                              showColumnStripes=False, showFirstColumn=False,
                                              showLastColumn=False)
         ws.add_table(item)
+
+
+def write_records(ws: Worksheet, header: int, columns: SheetColumns,
+                  rows: Sequence[Mapping[str, Any]]) -> int:
+    """Write one record per row below the header row, a cell per declared column.
+
+    Text columns go through :func:`prepkit.report.safety.write_text_row` (None
+    becomes empty); ISO date strings in date columns become dates; other
+    values are written with their column's number format (:func:`put`).
+
+    Parameters
+    ----------
+    ws : openpyxl.worksheet.worksheet.Worksheet
+        Sheet.
+    header : int
+        Header row, from 1; the first record goes below it.
+    columns : SheetColumns
+        The declared columns; each record holds a value under each column's name.
+    rows : sequence of mapping
+        The records.
+
+    Returns
+    -------
+    int
+        The last row written (``header`` when there are none).
+    """
+    row = header
+    for record in rows:
+        row += 1
+        for col, c in enumerate(columns.columns, start=1):
+            value = record[c.name]
+            if c.number_format == TEXT:
+                write_text_row(ws, row, ["" if value is None else str(value)], start_col=col)
+                continue
+            if c.number_format == DATE and isinstance(value, str):
+                value = dt.date.fromisoformat(value)
+            put(ws, row, col, value, c.number_format)
+    return row

@@ -29,6 +29,7 @@ import pandas as pd
 from prepkit.fitting.project import FitOutcome
 from prepkit.fitting.summary import FIT_DAILY_COLUMNS, fit_daily_rows
 from prepkit.plan import Plan
+from prepkit.plan.resources import STOCK_ITEMS
 from prepkit.report.changes import CHANGE_KEYS, PackChanges
 from prepkit.report.safety import safe_csv_text
 from prepkit.scenarios.runs import PlanResults
@@ -75,6 +76,8 @@ KEY_COLUMNS: tuple[Column, ...] = (
     Column("day", "days", "Days since day 0 of the plan."),
 )
 
+_STOCK_NOUNS = {"gowns": "Gowns", "gloves": "Glove pairs", "respirators": "Respirators"}
+
 #: The daily columns written, in order.
 DAILY_COLUMNS: tuple[Column, ...] = (
     Column("infections_per_day", "persons per day", "New infections during the day."),
@@ -119,6 +122,23 @@ DAILY_COLUMNS: tuple[Column, ...] = (
     Column("absence_share", "fraction", "Absent workers / all workers."),
     Column("school_closure_intensity_share", "fraction",
            "How fully schools are closed (0 open, 1 fully closed)."),
+    *(Column(f"{kind}_{what}_beds", "beds", f"{words} {noun} beds.")
+      for kind, noun in (("ward", "ward"), ("icu", "ICU"))
+      for what, words in (
+          ("available_crisis", "Available beds plus surge and crisis-space"),
+          ("staffed_after_absence", "Staffed (for all patients) after staff absence,"),
+          ("available_after_absence", "Available to outbreak patients after staff absence,"))),
+    Column("oxygen_need_lpm", "litres per minute",
+           "Oxygen flow outbreak ward and ICU patients on oxygen need."),
+    *(Column(f"{item}_{what}", unit, f"{_STOCK_NOUNS[item]} {words}.")
+      for item in STOCK_ITEMS
+      for what, unit, words in (
+          ("use_items_per_day", "items per day", "used by outbreak patients during the day"),
+          ("stock_items", "items", "left at the end of the day (blank: no stock given)"))),
+    Column("shortage_deaths_per_day", "persons per day",
+           "Additional deaths when beds run short, spread over the days beds are short."),
+    Column("mortuary_in_use_spaces", "spaces",
+           "Mortuary spaces taken by outbreak deaths at these hospitals."),
 )
 
 VARIANT_WORDS = {"with": "with measures", "without": "without measures"}
@@ -315,3 +335,48 @@ def changes_csv(changes: PackChanges | None) -> bytes | None:
         return None
     return _csv_bytes(list(CHANGE_KEYS), ([safe_csv_text(value) for value in c.row().values()]
                                           for c in changes.inputs))
+
+
+#: Columns of ``resources.csv`` and the results workbook's sheet "What runs short", in order.
+RESOURCE_KEYS: tuple[str, ...] = (
+    "scenario", "variant", "resource", "unit", "supply", "peak_need", "peak_need_date",
+    "first_short_date", "days_short_days", "largest_gap",
+)
+
+
+def resource_rows(results: PlanResults) -> list[dict[str, object]]:
+    """Every resource's need against supply, per scenario and variant (keys :data:`RESOURCE_KEYS`).
+
+    Dates are ISO strings, a supply not given is None; the figures are those of
+    :func:`prepkit.metrics.resources.resource_gaps`.
+    """
+    rows: list[dict[str, object]] = []
+    variants: tuple[Literal["with", "without"], ...] = ("with", "without")
+    for item in results.scenarios:
+        for variant in variants:
+            run = item.with_interventions if variant == "with" else item.without_interventions
+            for gap in run.metrics.resources:
+                rows.append({
+                    "scenario": item.scenario.name, "variant": VARIANT_WORDS[variant],
+                    "resource": gap.resource, "unit": gap.unit, "supply": gap.supply,
+                    "peak_need": gap.peak_need,
+                    "peak_need_date": None if gap.peak_need_date is None
+                    else gap.peak_need_date.isoformat(),
+                    "first_short_date": None if gap.first_short_date is None
+                    else gap.first_short_date.isoformat(),
+                    "days_short_days": gap.days_short_days, "largest_gap": gap.largest_gap,
+                })
+    return rows
+
+
+def resources_csv(results: PlanResults) -> bytes:
+    """``resources.csv``: :func:`resource_rows` as text (a supply not given is blank)."""
+    def cell(value: object) -> str:
+        if value is None:
+            return ""
+        if isinstance(value, str):
+            return safe_csv_text(value)
+        return csv_number(value)
+
+    return _csv_bytes(list(RESOURCE_KEYS), ([cell(row[key]) for key in RESOURCE_KEYS]
+                                            for row in resource_rows(results)))

@@ -15,9 +15,10 @@ import pandas as pd
 from numpy.typing import NDArray
 
 from prepkit.metrics.absence import add_absence_columns
-from prepkit.metrics.beds import no_bed_extra_fatality
+from prepkit.metrics.beds import bed_patients, no_bed_extra_fatality
 from prepkit.metrics.capacity import add_capacity_columns
 from prepkit.metrics.core import BurdenTotals, ScenarioMetrics, scenario_metrics
+from prepkit.metrics.resources import add_resource_columns
 from prepkit.plan import SETTINGS, Plan
 from prepkit.simulation.compile import CompiledModel
 from prepkit.simulation.layout import (
@@ -212,6 +213,11 @@ def run_outputs(
         daily, flows["symptomatic_onsets_per_day"], model.population, plan.bands, plan.workforce,
     )
     totals, by_label = _totals(plan, model, states[-1])
+    extra = no_bed_extra_fatality(plan.severity)
+    patients = bed_patients(totals.admissions_persons, totals.icu_admissions_persons,
+                            plan.capacity)
+    daily = add_resource_columns(daily, plan.capacity, plan.supplies, extra,
+                                 {kind: float(value) for kind, value in patients.items()})
     metrics = scenario_metrics(daily, totals, by_label, plan.population, plan.capacity,
-                               no_bed_extra_fatality(plan.severity))
+                               extra, plan.supplies)
     return daily, _by_band_table(plan, dates, {**flows, **stocks}), metrics

@@ -53,7 +53,7 @@ from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import InputRecord, Observation
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 from prepkit.workbook import schema, validate
 from prepkit.workbook.cells import Got, Key, TableRow, field_label, normalise_key
 from prepkit.workbook.field_types import Field
@@ -230,10 +230,11 @@ def build_plan(*, items: Mapping[Key, Got], band_rows: Sequence[TableRow],
     observed = tuple(build_row(Observation, "observed", row, rec) for row in tables["observed"])
     fit = build_section(FitSettings, "fit", items, (), rec)
     decide_by = build_section(DecideBy, "decide_by", items, (), rec)
+    supplies = build_section(Supplies, "supplies", items, (), rec)
     return Plan(details=details, bands=bands, contacts=contacts, disease=disease,
                 severity=severity, capacity=capacity, workforce=workforce,
                 interventions=interventions, scenarios=scenarios, observed=observed, fit=fit,
-                decide_by=decide_by)
+                decide_by=decide_by, supplies=supplies)
 
 
 # ---- Special cases ---------------------------------------------------------------------------

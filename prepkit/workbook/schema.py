@@ -38,6 +38,7 @@ from prepkit.workbook.fields_disease import DISEASE_FIELDS
 from prepkit.workbook.fields_measures import MEASURE_FIELDS
 from prepkit.workbook.fields_population import POPULATION_FIELDS
 from prepkit.workbook.fields_services import SERVICE_FIELDS
+from prepkit.workbook.fields_supplies import CRISIS_FIELDS, SUPPLY_FIELDS
 from prepkit.workbook.sheets import (
     DISEASE_BY_AGE,
     MATRIX_SHEETS,
@@ -71,7 +72,8 @@ TABLES: dict[str, Table] = {
 }
 
 #: Every workbook field, in workbook order.
-FIELDS: tuple[Field, ...] = (*POPULATION_FIELDS, *DISEASE_FIELDS, *SERVICE_FIELDS, *MEASURE_FIELDS)
+FIELDS: tuple[Field, ...] = (*POPULATION_FIELDS, *DISEASE_FIELDS, *SERVICE_FIELDS, *CRISIS_FIELDS,
+                             *SUPPLY_FIELDS, *MEASURE_FIELDS)
 
 FIELDS_BY_NAME: dict[str, Field] = {f.name: f for f in FIELDS}
 

@@ -28,6 +28,7 @@ DISEASE_BY_AGE = "Disease by age"
 SEVERITY = "Severity"
 HOSPITALS = "Hospitals"
 WORKFORCE = "Workforce"
+SUPPLIES = "Staff and supplies"
 MEASURES = "Measures"
 SCENARIOS = "Scenarios"
 OBSERVED = "Observed"
@@ -50,14 +51,17 @@ SHEET_ORDER: tuple[str, ...] = (
     SEVERITY,
     HOSPITALS,
     WORKFORCE,
+    SUPPLIES,
     MEASURES,
     SCENARIOS,
     OBSERVED,
 )
 
-#: Sheets a workbook must have (Observed and the matrix sheets may be absent).
+#: Sheets a workbook must have (Observed, Staff and supplies and the matrix sheets may be
+#: absent: every field of theirs has a default or is optional).
 REQUIRED_SHEETS: tuple[str, ...] = tuple(
-    sheet for sheet in SHEET_ORDER if sheet != OBSERVED and sheet not in MATRIX_SHEETS.values()
+    sheet for sheet in SHEET_ORDER
+    if sheet not in (OBSERVED, SUPPLIES) and sheet not in MATRIX_SHEETS.values()
 )
 
 #: Short description of each sheet, shown on the instructions sheet.
@@ -83,6 +87,10 @@ SHEET_PURPOSE: dict[str, str] = {
     SEVERITY: "The hospital pathway for each band: who is admitted, who needs ICU, for how long.",
     HOSPITALS: "Beds serving the jurisdiction, how full they already are, and surge beds.",
     WORKFORCE: "Inputs for estimating staff absence from illness and school closures.",
+    SUPPLIES: (
+        "Optional: hospital staff on duty and patients per nurse and doctor, oxygen, protective "
+        "equipment and mortuary spaces. Each supply left blank is not compared."
+    ),
     MEASURES: (
         "One row per measure: fewer contacts (school closure, distancing), vaccination, or "
         "isolation of cases; when it starts and ends (a start date is the first day in force, "

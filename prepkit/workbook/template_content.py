@@ -38,7 +38,7 @@ class SheetContent:
         groups = {
             "details": plan.details, "mixing": plan.contacts, "disease": plan.disease,
             "severity": plan.severity, "capacity": plan.capacity, "workforce": plan.workforce,
-            "fit": plan.fit, "decide_by": plan.decide_by,
+            "fit": plan.fit, "decide_by": plan.decide_by, "supplies": plan.supplies,
         }
         for f in schema.FIELDS:
             if f.table is None:

@@ -7,6 +7,7 @@ the PDF text.
 
 from __future__ import annotations
 
+import csv
 import datetime as dt
 import json
 import re
@@ -229,7 +230,8 @@ def test_deaths_are_labelled_everywhere(city: tuple[_Text, Path, object]) -> Non
                 if isinstance(value, str) and "eath" in value and "[" in value:
                     assert any(kind in value for kind in KINDS_OF_DEATH), (ws.title, value)
     header = (outdir / "daily-series.csv").read_text(encoding="utf-8").splitlines()[0]
-    assert all("hospital_deaths" in c for c in header.split(",") if "death" in c)
+    deaths = [c for c in header.split(",") if "death" in c]
+    assert deaths and all("hospital_deaths" in c or "shortage_deaths" in c for c in deaths)
 
 
 # ---- Observed figures ---------------------------------------------------------------------------
@@ -326,3 +328,30 @@ def test_the_leader_page_shows_the_decide_by_dates_of_summary_json(
             assert any(shown in " ".join(row) for row in leader if row[0] == item["scenario"])
     assert decisions["ensemble_runs_count"] > len(decisions["scenarios"])
     assert "decide-by.csv" in {p.name for p in pack.iterdir()}
+
+
+@pytest.mark.parametrize("which", ["city", "town"])
+def test_what_runs_short_agrees_with_resources_csv_and_the_bed_metrics(
+    which: str, request: pytest.FixtureRequest,
+) -> None:
+    # Every number that appears twice agrees (common practice, no source): the page's days
+    # short are resources.csv's, and its staffed-bed rows are the beds' own days short.
+    parsed, pack, _plan = request.getfixturevalue(which)
+    summary = json.loads((pack / "summary.json").read_text(encoding="utf-8"))
+    with open(pack / "resources.csv", encoding="utf-8-sig", newline="") as handle:
+        rows = [r for r in csv.DictReader(handle) if r["variant"] == "with measures"]
+    table = [row for row, where in zip(parsed.rows, parsed.row_sections, strict=True)
+             if where == "resources"]
+    names = [s["name"] for s in summary["scenarios"]]
+    conventional = [row for row in table if row and row[0] == "Staffed beds (conventional)"]
+    assert len(conventional) == 2  # ward, then ICU
+    for kind, row in zip(("ward", "icu"), conventional, strict=True):
+        for i, name in enumerate(names):
+            days = next(s for s in summary["scenarios"] if s["name"] == name)[
+                "with_interventions"][kind]["days_over_capacity_days"]
+            listed = next(int(r["days_short_days"]) for r in rows
+                          if r["scenario"] == name and r["resource"] == f"{kind}_beds_conventional")
+            assert listed == days
+            cell = row[2 + i]
+            assert cell.startswith(f"{days} days short" if days > 1 else
+                                   "1 day short" if days == 1 else "enough"), cell

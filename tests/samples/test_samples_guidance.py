@@ -46,6 +46,9 @@ NEUTRAL_DEFAULTS = {
     "details.observed_period": "how the planner's figures are kept",
     "fit.method": "a choice",
     "decide_by.within_beds_share": "a policy choice, agreed with the health authority",
+    "supplies.gowns_resupply_per_day": "0: no deliveries",
+    "supplies.gloves_resupply_per_day": "0: no deliveries",
+    "supplies.respirators_resupply_per_day": "0: no deliveries",
     "fit.change_factor": "1: no change",
     "fit.initial_infections_factor": "a run setting: how widely the fit searches",
     "band_contacts.home_share": "0%: the rest are community contacts",
@@ -144,7 +147,15 @@ def test_typical_value_wording_is_the_one_planners_are_told() -> None:
     cited = [f.name for f in FIELDS if f.default is not None and CITATION.search(f.help)]
     # Published sources: Carrat et al. 2008 (share with symptoms), Bagust, Place & Posnett
     # 1999 (ward occupancy), Wunsch et al. 2013 (ICU occupancy), US HHS Pandemic Influenza
-    # Plan 2005, Table 1 (share of ICU patients ventilated: 7.5% / 15% of admissions).
+    # Plan 2005, Table 1 (share of ICU patients ventilated: 7.5% / 15% of admissions),
+    # Institute of Medicine 2012 (crisis space, default none), Hvarfner et al. 2022, PLOS ONE
+    # 17:e0249984 (oxygen flow: 3.0 L/min on the ward; 10 L/min, the WHO estimate it quotes),
+    # Johns Hopkins Center for Health Security 2020 (20 gown and 170 glove changes per ICU
+    # patient-day).
     assert set(cited) == {"band_disease.symptomatic_share", "capacity.ward_baseline_occupancy",
-                          "capacity.icu_baseline_occupancy", "capacity.ventilated_icu_share"}
+                          "capacity.icu_baseline_occupancy", "capacity.ventilated_icu_share",
+                          "capacity.crisis_ward_beds", "capacity.crisis_icu_beds",
+                          "supplies.ward_oxygen_lpm", "supplies.icu_oxygen_lpm",
+                          "supplies.gowns_icu_per_patient_day",
+                          "supplies.gloves_icu_per_patient_day"}
     assert len(typical) >= 15

@@ -10,7 +10,7 @@ import prepkit.plan as plan_module
 from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 from prepkit.workbook import schema
 from prepkit.workbook.field_types import Field
 from prepkit.workbook.instructions import INSTRUCTIONS_CAUTION, INSTRUCTIONS_HOW
@@ -118,7 +118,7 @@ def test_item_fields_map_onto_plan_attributes() -> None:
         "details": Details, "mixing": plan_module.Contacts,
         "disease": plan_module.Disease, "severity": plan_module.Severity,
         "capacity": Capacity, "workforce": Workforce, "fit": FitSettings,
-        "decide_by": DecideBy,
+        "decide_by": DecideBy, "supplies": Supplies,
     }
     for f in FIELDS:
         if f.table is None:

@@ -12,7 +12,7 @@ from prepkit.plan.decide import DecideBy
 from prepkit.plan.details import Details
 from prepkit.plan.fit import FitSettings
 from prepkit.plan.records import Observation
-from prepkit.plan.resources import Capacity, Workforce
+from prepkit.plan.resources import Capacity, Supplies, Workforce
 from prepkit.workbook.build import SPECIAL_SECTIONS, section_fields
 from prepkit.workbook.schema import FIELDS, TABLES
 from prepkit.workbook.targets import Target, parse_target, resolve
@@ -22,7 +22,7 @@ SECTIONS: dict[str, type] = {
     "details": Details, "bands": AgeBand, "contacts": Contacts, "disease": Disease,
     "severity": Severity, "capacity": Capacity, "workforce": Workforce,
     "interventions": Intervention, "scenarios": Scenario, "observed": Observation,
-    "fit": FitSettings, "decide_by": DecideBy,
+    "fit": FitSettings, "decide_by": DecideBy, "supplies": Supplies,
 }
 
 

@@ -27,6 +27,7 @@ from prepkit.report.words.leader import (
 )
 from prepkit.report.words.limitations import limitations
 from prepkit.report.words.measures import measure_rows
+from prepkit.report.words.resources import first_short_sentence, gap_table
 from prepkit.report.words.review import review_words
 from prepkit.report.words.strain import (
     baseline_strain_note,
@@ -225,6 +226,8 @@ def build_context(
         "files": tuple(files),
         "notes": tuple(notes),
         "changes": changes,
+        "gaps": gap_table(plan, views),
+        "first_short": first_short_sentence(views),
     }
 
 
