@@ -288,6 +288,10 @@ _CENTRAL: tuple[tuple[str, str, tuple[str, ...], _Row], ...] = (
     ("ICU peak on", "date", (_WITH, "icu", "peak_date"), _date_row),
     ("Days short of ward beds", "days", (_WITH, "ward", "days_over_capacity_days"), _count_row),
     ("Days short of ICU beds", "days", (_WITH, "icu", "days_over_capacity_days"), _count_row),
+    ("Days short of ward beds with surge beds open", "days",
+     (_WITH, "ward", "days_over_capacity_with_surge_days"), _count_row),
+    ("Days short of ICU beds with surge beds open", "days",
+     (_WITH, "icu", "days_over_capacity_with_surge_days"), _count_row),
     ("Admissions", "people", (_WITH, "total", "admissions_persons"), _count_row),
     ("Deaths in hospital care", "people", (_WITH, "total", "hospital_deaths_persons"),
      _count_row),
@@ -296,7 +300,33 @@ _CENTRAL: tuple[tuple[str, str, tuple[str, ...], _Row], ...] = (
 )
 _CHANCE = ("Chance of running short of ICU beds", "%",
            (_WITH, "exceedance_any_day", "icu_any_day_probability"), _share_row)
-_DECIDE = ("Decide on the measures by", "date", ("latest_decision_date",), _date_row)
+#: How the decide-by verdicts without a date read.
+_VERDICT_WORDS = {"not_enough": "no date is enough", "not_needed": "not needed",
+                  "no_measures": "no dated measures"}
+
+
+def _decision(row: Any) -> tuple[dt.date | None, str]:
+    """The decide-by date of a decisions row and how it reads."""
+    if not isinstance(row, Mapping):
+        return None, _MISSING
+    day = _date(row.get("latest_decision_date"))
+    verdict = str(row.get("measures_verdict", ""))
+    if day is None:
+        return None, _VERDICT_WORDS.get(verdict, _MISSING)
+    shown = format_date(day)
+    return day, f"{shown} (passed)" if verdict == "too_late" else shown
+
+
+def _decide_row(old: Any, new: Any) -> tuple[str, str, str]:
+    (a, before), (b, after) = _decision(old), _decision(new)
+    if before == after:
+        return before, after, "no change"
+    if a is None or b is None:
+        return before, after, ""
+    return before, after, f"{(b - a).days:+d} days"
+
+
+_DECIDE = ("Decide on the measures by", "date", (), _decide_row)
 
 
 def _named(records: Any) -> dict[str, Mapping[str, Any]]:

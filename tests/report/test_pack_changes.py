@@ -162,3 +162,37 @@ def test_a_new_prepkit_version_is_said() -> None:
     words = change_words(changes)
     assert words is not None
     assert any("prepkit 0.2.0" in sentence for sentence in words.intro)
+
+
+def test_decide_by_dates_and_verdicts_are_compared_as_the_pack_says_them() -> None:
+    # Hand-worked: a decide-by date two days later reads +2 days; a date that has passed says
+    # so; a verdict without a date is named, and its difference left blank.
+    def decided(date: str | None, verdict: str) -> dict[str, Any]:
+        summary = _new_summary()
+        summary["decisions"] = {"scenarios": [{"scenario": "Central", "measures_verdict": verdict,
+                                               "latest_decision_date": date}]}
+        return summary
+
+    def row(old: dict[str, Any], new: dict[str, Any]) -> tuple[str, str, str]:
+        changes = compare_packs(OLD_INPUTS, old, OLD_INPUTS, new)
+        figure = next(f for f in changes.figures if f.figure == "Decide on the measures by")
+        return figure.old_value, figure.new_value, figure.difference
+
+    assert row(decided("2027-01-20", "date"), decided("2027-01-22", "date")) == (
+        "20 Jan 2027", "22 Jan 2027", "+2 days")
+    assert row(decided("2027-01-20", "date"), decided("2027-01-17", "too_late")) == (
+        "20 Jan 2027", "17 Jan 2027 (passed)", "-3 days")
+    assert row(decided("2027-01-20", "date"), decided(None, "not_enough")) == (
+        "20 Jan 2027", "no date is enough", "")
+    assert row(decided(None, "not_enough"), decided(None, "not_enough"))[2] == "no change"
+
+
+def test_more_surge_beds_show_in_the_days_short_with_surge() -> None:
+    new = _new_summary()
+    new["scenarios"][0]["with_interventions"]["icu"]["days_over_capacity_with_surge_days"] = 3
+    old = copy.deepcopy(OLD_SUMMARY)
+    old["scenarios"][0]["with_interventions"]["icu"]["days_over_capacity_with_surge_days"] = 9
+    changes = compare_packs(OLD_INPUTS, old, OLD_INPUTS, new)
+    figure = next(f for f in changes.figures
+                  if f.figure == "Days short of ICU beds with surge beds open")
+    assert (figure.old_value, figure.new_value, figure.difference) == ("9", "3", "-6")
