@@ -54,6 +54,7 @@ _WHEN_BLANK_STAFF = ("Leave blank if the staff on duty exactly match the staffed
 
 def _staff(kind: str, noun: str, label: str, ratio: float, ratio_help: str) -> tuple[Field, ...]:
     where = "ward" if kind == "ward" else "ICU"
+    article = "a" if kind == "ward" else "an"
     return (
         Field(name=f"supplies.{kind}_{noun}s", target=f"supplies.{kind}_{noun}s",
               sheet=SUPPLIES, label=f"{where[0].upper()}{where[1:]} {label}s on duty per shift",
@@ -66,8 +67,8 @@ def _staff(kind: str, noun: str, label: str, ratio: float, ratio_help: str) -> t
               target=f"supplies.{kind}_patients_per_{noun}",
               sheet=SUPPLIES, label=f"{where[0].upper()}{where[1:]} patients per {label}",
               unit=f"per {label}", type="number", minimum=0.1, maximum=100, default=ratio,
-              help=f"Patients one {label} looks after on a {where} shift. Default {ratio:g}: "
-                   f"{ratio_help}"),
+              help=f"Patients one {label} looks after on {article} {where} shift. Default "
+                   f"{ratio:g}: {ratio_help}"),
     )
 
 
