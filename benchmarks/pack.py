@@ -129,6 +129,11 @@ def _export(rev: str, into: Path) -> Path:
     subprocess.run(["git", "-C", str(ROOT), "archive", "-o", str(archive), rev], check=True)
     with tarfile.open(archive) as tar:
         tar.extractall(tree, filter="data")
+    # The editable install maps the package prepkit.templates onto this checkout's
+    # templates/ folder; a link inside the exported package makes the baseline find its own.
+    link = tree / "prepkit" / "templates"
+    if not link.exists():
+        link.symlink_to(tree / "templates", target_is_directory=True)
     return tree
 
 
