@@ -144,13 +144,13 @@ def measures_short(plan: Plan, item: ScenarioDecisions) -> str:
         return "Not needed for beds"
     if m.verdict == "not_enough":
         best = item.share_now["contingency" if surge else "conventional"]
-        return f"No date is enough (now: {share_words(best)})"
+        return f"No date is enough (deciding today: {share_words(best)})"
     assert m.latest_decision_day is not None
     level = " with surge beds" if m.level == "contingency" else ""
     if m.verdict == "too_late":
         best = item.share_now["contingency" if surge else "conventional"]
         return (f"Too late: passed {_day(plan, m.latest_decision_day)}{level} "
-                f"(now: {share_words(best)})")
+                f"(deciding today: {share_words(best)})")
     window = ("" if m.earliest_decision_day is None
               else f"{_day(plan, m.earliest_decision_day)} to ")
     return f"{'By ' if not window else ''}{window}{_day(plan, m.latest_decision_day)}{level}"
@@ -252,15 +252,17 @@ def decision_words(plan: Plan, decisions: DecisionResults | None) -> DecisionWor
     short_heads = ("Decide on the measures still to come",
                    *(("Act at a 7-day average of new admissions",) if watch else ()),
                    "Order surge beds")
+    surge = plan.capacity.surge_ward_beds + plan.capacity.surge_icu_beds > 0
     short_note = (
         f"Latest dates from {now} keeping ward and ICU demand within staffed beds (or as said) "
         f"in {format_percent(target)} of plausible futures, decisions taking effect "
-        f"{format_days(decisions.delay_days)} later; now: the share deciding today keeps with "
-        "surge beds. Details follow this page."
+        f"{format_days(decisions.delay_days)} later; deciding today: the share of futures a "
+        f"decision today keeps within beds{' with the surge beds' if surge else ''}. Details "
+        "follow this page."
     )
     return DecisionWords(rows=rows, note=note, runs=decisions.runs,
                          short_rows=short_rows, short_heads=short_heads, short_note=short_note,
-                         surge=plan.capacity.surge_ward_beds + plan.capacity.surge_icu_beds > 0,
+                         surge=surge,
                          details=tuple((item.scenario, detail_cells(plan, item))
                                        for item in decisions.scenarios if item.moved))
 
