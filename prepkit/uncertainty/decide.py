@@ -66,7 +66,6 @@ import numpy as np
 from numpy.typing import NDArray
 
 from prepkit.base.blas import one_blas_thread
-from prepkit.metrics.beds import bed_supply, outbreak_demand
 from prepkit.plan import Intervention, Plan, Scenario
 from prepkit.scenarios.runs import compile_scenario
 from prepkit.simulation.draw_values import DrawValues, with_fitted
@@ -79,8 +78,13 @@ from prepkit.uncertainty.decide_results import (
     MeasureVerdict,
     ScenarioDecisions,
     SearchPoint,
-    SurgeDecision,
-    SurgeVerdict,
+)
+from prepkit.uncertainty.decide_rules import (
+    edge,
+    seven_day_average,
+    signal_level,
+    surge_decision,
+    within_beds,
 )
 from prepkit.uncertainty.draws import DrawSeries, mode_values, values_from
 from prepkit.uncertainty.ensemble import simulate_draws
@@ -94,7 +98,6 @@ __all__ = [
     "decide_scenario",
     "moved_plan",
     "now_day",
-    "seven_day_average",
 ]
 
 SEARCH_DRAWS = 200
@@ -104,8 +107,6 @@ within beds near 90% then has a sampling error of about 2 percentage points."""
 GRID_STEP_DAYS = 7
 """Days between the starts of the coarse pass [days]."""
 
-SIGNAL_WINDOW_DAYS = 7
-"""Days averaged in the admissions signal [days]."""
 
 # --------------------------------------------------------------------------- the rules
 
@@ -166,113 +167,6 @@ def moved_plan(plan: Plan, moved: Sequence[str], start_day: int) -> Plan:
     ))
 
 
-def seven_day_average(admissions: NDArray[np.floating], window: int = SIGNAL_WINDOW_DAYS
-                      ) -> NDArray[np.float64]:
-    """Trailing average of daily admissions over ``window`` days [persons/day].
-
-    Day ``t`` averages days ``t - window + 1`` to ``t``; the first days average
-    the days there are. Last axis = days.
-    """
-    values = np.asarray(admissions, dtype=np.float64)
-    total = np.cumsum(values, axis=-1)
-    lagged = np.zeros_like(total)
-    lagged[..., window:] = total[..., :-window]
-    count = np.minimum(np.arange(1, values.shape[-1] + 1), window)
-    return np.asarray((total - lagged) / count)
-
-
-def _within(plan: Plan, runs: DrawSeries) -> dict[BedLevel, NDArray[np.bool_]]:
-    """Per future: outbreak demand never above the beds of each level."""
-    beds = bed_supply(plan.capacity)
-    catch = plan.capacity.catchment_share
-    ward, icu = runs.peaks[:, 0] * catch, runs.peaks[:, 1] * catch
-    return {
-        "conventional": (ward <= beds["ward"][0]) & (icu <= beds["icu"][0]),
-        "contingency": (ward <= sum(beds["ward"])) & (icu <= sum(beds["icu"])),
-    }
-
-
-def _edge(ok: Callable[[int], bool], good: int, bad: int) -> int:
-    """The good day nearest ``bad`` between a day ``ok`` holds and one it does not (bisection)."""
-    while abs(bad - good) > 1:
-        middle = (good + bad) // 2
-        if ok(middle):
-            good = middle
-        else:
-            bad = middle
-    return good
-
-
-def _latest_share_day(days: NDArray[np.float64], share: float, *, start: int) -> int | None:
-    """Latest whole day ``o >= start`` with at least ``share`` of ``days`` at or after it.
-
-    ``days`` are per-future latest days (``inf``: any day will do, ``-inf``:
-    no day will). None when even ``start`` keeps too few.
-    """
-    need = math.ceil(share * days.size - 1e-9)
-    ordered = np.sort(days)[::-1]
-    best = ordered[need - 1]
-    if best < start:
-        return None
-    return int(min(best, np.iinfo(np.int32).max))
-
-
-def surge_decision(plan: Plan, runs: DrawSeries, share: float, now: int) -> SurgeDecision:
-    """When surge beds must be ordered so that ``share`` of the futures ``runs`` stay in beds."""
-    capacity = plan.capacity
-    lead = math.ceil(capacity.surge_days_to_open - 1e-9)
-    beds = bed_supply(capacity)
-    n = runs.peaks.shape[0]
-    latest = np.full(n, np.inf)
-    enough = np.ones(n, dtype=bool)
-    for kind, (available, surge) in beds.items():
-        demand = outbreak_demand(runs.get(f"{kind}_census_persons"), capacity)
-        over = demand > available
-        first = np.where(over.any(axis=1), over.argmax(axis=1), np.iinfo(np.int32).max)
-        latest = np.minimum(latest, np.where(over.any(axis=1), first - lead, np.inf))
-        enough &= demand.max(axis=1) <= available + surge
-    share_enough = float(enough.mean())
-    if capacity.surge_ward_beds + capacity.surge_icu_beds == 0:
-        return SurgeDecision(verdict="no_surge_beds", latest_order_day=None, lead_days=lead,
-                             share_enough=share_enough)
-    if np.isinf(latest).mean() >= share - 1e-12:
-        return SurgeDecision(verdict="not_needed", latest_order_day=None, lead_days=lead,
-                             share_enough=share_enough)
-    per_future = np.where(enough, latest, -np.inf)
-    if share_enough < share - 1e-12:
-        return SurgeDecision(verdict="not_enough", latest_order_day=None, lead_days=lead,
-                             share_enough=share_enough)
-    day = _latest_share_day(per_future, share, start=-(10**9))
-    assert day is not None
-    verdict: SurgeVerdict = "date" if day >= now else "too_late"
-    return SurgeDecision(verdict=verdict, latest_order_day=day, lead_days=lead,
-                         share_enough=share_enough)
-
-
-def _signal(within: dict[int, NDArray[np.bool_]], lead: int, average: NDArray[np.float64],
-            share: float, now: int) -> float | None:
-    """The 7-day average of admissions at which acting keeps ``share`` of futures within beds.
-
-    ``within`` maps each evaluated start to the futures within beds there;
-    ``average`` is the 7-day average of each future without the moved
-    measures (draws x days).
-    """
-    n, days = average.shape
-    last = np.full(n, -1, dtype=np.int64)
-    for start, ok in within.items():
-        last = np.where(ok, np.maximum(last, start - lead), last)
-    level = np.full(n, -np.inf)
-    running = np.maximum.accumulate(average, axis=1)
-    reach = last >= now
-    level[reach] = running[reach, np.minimum(last[reach], days - 1)]  # never: any day
-    need = math.ceil(share * n - 1e-9)
-    best = float(np.sort(level)[::-1][need - 1])
-    return best if np.isfinite(best) and best > 0.0 else None
-
-
-# --------------------------------------------------------------------------- one scenario
-
-
 def _values(plan: Plan, scenario: Scenario, draws: int, seed: int) -> DrawValues:
     """The searched futures: a Latin hypercube of ``draws``, or the central run when 0."""
     if draws > 0:
@@ -298,7 +192,7 @@ class _Search:
             model = compile_scenario(plan, self.scenario, True)
             got = simulate_draws(model, plan, self.values, what="decide-by future")
             self.runs[start_day] = got
-            self.within[start_day] = _within(plan, got)
+            self.within[start_day] = within_beds(plan, got)
         return self.runs[start_day]
 
     def share(self, start_day: int, level: BedLevel) -> float:
@@ -360,8 +254,8 @@ def decide_scenario(plan: Plan, scenario: Scenario | str, *, draws: int | None =
     if measures.verdict == "date" and measures.level is not None:
         average = seven_day_average(search.run(never).get("admissions_per_day"))
         within = {day: got[measures.level] for day, got in search.within.items()}
-        measures = replace(measures,
-                           signal_admissions_per_day=_signal(within, lead, average, target, now))
+        signal = signal_level(within, lead, average, target, now)
+        measures = replace(measures, signal_admissions_per_day=signal)
     points = tuple(
         SearchPoint(decision_day=day - lead, start_day=day,
                     within_share={level: float(got[level].mean()) for level in BED_LEVELS})
@@ -400,9 +294,9 @@ def _measure_decision(search: _Search, target: float, lead: int, earliest: int,
             continue
         last = good[-1]
         after = [day for day in evaluated if day > last]
-        latest = _edge(ok, last, after[0]) if after else last
+        latest = edge(ok, last, after[0]) if after else last
         before = [day for day in evaluated if day < last and not ok(day)]
-        first = _edge(ok, last, before[-1]) if before else None
+        first = edge(ok, last, before[-1]) if before else None
         verdict: MeasureVerdict = "date" if latest >= earliest else "too_late"
         found = MeasureDecision(
             verdict=verdict, level=level, latest_decision_day=latest - lead,

@@ -13,12 +13,8 @@ from scipy.optimize import brentq
 
 from prepkit.plan import DecideBy, End, Start
 from prepkit.scenarios.runs import run_scenario
-from prepkit.uncertainty.decide import (
-    decide_scenario,
-    moved_plan,
-    seven_day_average,
-    surge_decision,
-)
+from prepkit.uncertainty.decide import decide_scenario, moved_plan
+from prepkit.uncertainty.decide_rules import seven_day_average, surge_decision
 from prepkit.uncertainty.draws import DrawSeries
 
 STOP = {"home": 0.0, "school": 0.0, "work": 0.0, "community": 0.0}
