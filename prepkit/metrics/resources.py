@@ -65,7 +65,15 @@ import pandas as pd
 from numpy.typing import ArrayLike, NDArray
 
 from prepkit.metrics.absence import recent_sum
-from prepkit.metrics.beds import bed_supply, surge_available, unmet_beds, unserved_patients
+from prepkit.metrics.beds import (
+    bed_supply,
+    days_over_capacity,
+    first_over_day,
+    largest_shortfall,
+    surge_available,
+    unmet_beds,
+    unserved_patients,
+)
 from prepkit.metrics.peaks import date_of_day, peak
 from prepkit.plan import Capacity
 from prepkit.plan.resources import STOCK_ITEMS, StockItem, Supplies
@@ -236,12 +244,19 @@ def _gap(index: pd.Index, resource: str, unit: str, supply: float | None, need: 
                            peak_need_date=when, first_short_date=None, days_short_days=0,
                            largest_gap=0.0)
     missing = np.asarray(short, dtype=np.float64)
-    over = missing > 0.0
-    first = int(np.argmax(over)) if over.any() else -1
+    # the shortfall against none to spare: the bed rules' first day over, days over, largest
     return ResourceGap(resource=resource, unit=unit, supply=float(supply), peak_need=top,
-                       peak_need_date=when, first_short_date=date_of_day(index, first),
-                       days_short_days=int(over.sum()),
-                       largest_gap=float(missing.max()) if missing.size else 0.0)
+                       peak_need_date=when,
+                       first_short_date=date_of_day(index, int(first_over_day(missing, 0.0))),
+                       days_short_days=int(days_over_capacity(missing, 0.0)),
+                       largest_gap=float(largest_shortfall(missing, 0.0)))
+
+
+def _by_kind(capacity: Capacity) -> tuple[dict[str, float], dict[str, float], dict[str, float]]:
+    """Staffed beds [beds], the share other patients use [fraction] and crisis beds [beds]."""
+    return ({"ward": float(capacity.ward_beds), "icu": float(capacity.icu_beds)},
+            {"ward": capacity.ward_baseline_occupancy, "icu": capacity.icu_baseline_occupancy},
+            {"ward": float(capacity.crisis_ward_beds), "icu": float(capacity.crisis_icu_beds)})
 
 
 def _staff(supplies: Supplies, kind: str) -> tuple[tuple[float | None, float], ...]:
@@ -283,9 +298,7 @@ def add_resource_columns(daily: pd.DataFrame, capacity: Capacity, supplies: Supp
     """
     out = daily.copy()
     absent = out["absence_share"].to_numpy()
-    staffed = {"ward": float(capacity.ward_beds), "icu": float(capacity.icu_beds)}
-    baseline = {"ward": capacity.ward_baseline_occupancy, "icu": capacity.icu_baseline_occupancy}
-    crisis = {"ward": float(capacity.crisis_ward_beds), "icu": float(capacity.crisis_icu_beds)}
+    staffed, baseline, crisis = _by_kind(capacity)
     extra_deaths = np.zeros(len(out))
     for kind, (available, surge) in bed_supply(capacity).items():
         demand = out[f"{kind}_demand_beds"].to_numpy()
@@ -336,9 +349,7 @@ def resource_gaps(daily: pd.DataFrame, capacity: Capacity, supplies: Supplies
     """
     index = daily.index
     rows = []
-    crisis = {"ward": float(capacity.crisis_ward_beds), "icu": float(capacity.crisis_icu_beds)}
-    staffed = {"ward": float(capacity.ward_beds), "icu": float(capacity.icu_beds)}
-    baseline = {"ward": capacity.ward_baseline_occupancy, "icu": capacity.icu_baseline_occupancy}
+    staffed, baseline, crisis = _by_kind(capacity)
     for kind, (available, surge) in bed_supply(capacity).items():
         demand = daily[f"{kind}_demand_beds"].to_numpy()
         levels = {"conventional": (f"{kind}_available_beds", available),
