@@ -94,7 +94,10 @@ def _count_row(old: Any, new: Any) -> tuple[str, str, str]:
     shown = (format_number(old, missing=_MISSING), format_number(new, missing=_MISSING))
     if a is None or b is None:
         return (*shown, "")
-    return (*shown, "no change" if a == b else f"{b - a:+,}")
+    if shown[0] == shown[1]:
+        return (*shown, "no change")
+    # "<1" against "0" (or "<1" against "1") differ by less than one
+    return (*shown, f"{b - a:+,}" if a != b else "less than 1")
 
 
 def _date_row(old: Any, new: Any) -> tuple[str, str, str]:

@@ -196,3 +196,14 @@ def test_more_surge_beds_show_in_the_days_short_with_surge() -> None:
     figure = next(f for f in changes.figures
                   if f.figure == "Days short of ICU beds with surge beds open")
     assert (figure.old_value, figure.new_value, figure.difference) == ("9", "3", "-6")
+
+
+def test_a_count_under_one_that_goes_to_none_is_a_change_of_less_than_one() -> None:
+    # Hand-worked: 0.3 beds prints as "<1" and 0 as "0"; the figures as printed differ, so the
+    # row is moved, and the difference of the whole numbers behind them (0 - 0) is under one.
+    old = copy.deepcopy(OLD_SUMMARY)
+    old["scenarios"][0]["with_interventions"]["ward"]["peak_demand_beds"] = 0.3
+    changes = compare_packs(OLD_INPUTS, old, OLD_INPUTS, _new_summary(peak_demand_beds=0.0))
+    row = next(f for f in changes.figures if f.figure == "Peak ward demand")
+    assert (row.old_value, row.new_value, row.difference) == ("<1", "0", "less than 1")
+    assert row.moved
